@@ -1,0 +1,6 @@
+export * as vec3 from './vec3.ts';
+export * as mat3 from './mat3.ts';
+export * as quat from './quat.ts';
+export type { Vec3 } from './vec3.ts';
+export type { Mat3 } from './mat3.ts';
+export type { Quat } from './quat.ts';
