@@ -1,0 +1,2 @@
+export { loadConfig, configReference, ConfigError, CONFIG_VARIABLES } from './config.ts';
+export type { Config } from './config.ts';
