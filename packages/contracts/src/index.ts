@@ -2,3 +2,4 @@ export * from './vocabulary.ts';
 export * from './manifest.ts';
 export * from './report.ts';
 export * from './api.ts';
+export * from './policy.ts';
