@@ -1,2 +1,13 @@
 export * from './types.ts';
 export * from './errors.ts';
+export { openDatabase, migrate, readMigrations, DEFAULT_MIGRATIONS_DIR, type MigrationFile } from './database.ts';
+export { createStore } from './store.ts';
+export { createRunRepository } from './run-repository.ts';
+export { createReportRepository } from './report-repository.ts';
+export { createReviewRepository } from './review-repository.ts';
+export { createAuditRepository } from './audit-repository.ts';
+export { createTokenRepository } from './token-repository.ts';
+export { createWebhookRepository, deliveryBackoffMs } from './webhook-repository.ts';
+export { createUploadRepository } from './upload-repository.ts';
+export { createRobotRepository } from './robot-repository.ts';
+export { createBlobStore } from './blob-store.ts';

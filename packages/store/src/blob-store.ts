@@ -1,0 +1,189 @@
+import { createHash, randomBytes } from 'node:crypto';
+import { createReadStream, existsSync } from 'node:fs';
+import { mkdir, open, readdir, rename, stat, unlink, type FileHandle } from 'node:fs/promises';
+import { join } from 'node:path';
+import type { Readable } from 'node:stream';
+import { BlobChecksumError, BlobOffsetError, BlobTooLargeError, NotFoundError } from './errors.ts';
+import type { BlobInfo, BlobStore } from './types.ts';
+
+const SHA256_HEX = /^[0-9a-f]{64}$/;
+
+function checkSha(sha256: string): string {
+  if (!SHA256_HEX.test(sha256)) throw new RangeError(`not a lowercase hex SHA-256: ${sha256}`);
+  return sha256;
+}
+
+/** fsync of a directory, so a rename into it survives a power cut (POSIX; not supported on some platforms). */
+async function fsyncDir(dir: string): Promise<void> {
+  let handle: FileHandle | undefined;
+  try {
+    handle = await open(dir, 'r');
+    await handle.sync();
+  } catch (err) {
+    // Windows cannot open directories; EISDIR/EPERM there is not a durability bug we can fix.
+    const code = (err as NodeJS.ErrnoException).code;
+    if (code !== 'EISDIR' && code !== 'EPERM' && code !== 'EINVAL') throw err;
+  } finally {
+    await handle?.close();
+  }
+}
+
+async function* chunksOf(source: Readable | AsyncIterable<Uint8Array> | Uint8Array): AsyncIterable<Uint8Array> {
+  if (source instanceof Uint8Array) yield source;
+  else yield* source as AsyncIterable<Uint8Array>;
+}
+
+/** Streams `source` into an open file from `position`, hashing as it goes; stops with BlobTooLargeError past `limit`. */
+async function pump(
+  source: Readable | AsyncIterable<Uint8Array> | Uint8Array,
+  file: FileHandle,
+  position: number,
+  limit: number,
+  hash: ReturnType<typeof createHash> | null,
+): Promise<number> {
+  let written = position;
+  for await (const chunk of chunksOf(source)) {
+    const bytes = typeof chunk === 'string' ? Buffer.from(chunk) : chunk;
+    if (written + bytes.byteLength > limit) {
+      if (typeof (source as Readable).destroy === 'function') (source as Readable).destroy();
+      throw new BlobTooLargeError(limit);
+    }
+    let off = 0;
+    while (off < bytes.byteLength) {
+      const { bytesWritten } = await file.write(bytes, off, bytes.byteLength - off, written + off);
+      off += bytesWritten;
+    }
+    hash?.update(bytes);
+    written += bytes.byteLength;
+  }
+  return written;
+}
+
+async function hashFile(path: string): Promise<{ sha256: string; sizeBytes: number }> {
+  const hash = createHash('sha256');
+  let size = 0;
+  for await (const chunk of createReadStream(path, { highWaterMark: 1 << 20 })) {
+    hash.update(chunk as Buffer);
+    size += (chunk as Buffer).byteLength;
+  }
+  return { sha256: hash.digest('hex'), sizeBytes: size };
+}
+
+/**
+ * Content-addressed bundle files under `dir`: `<dir>/sha256/ab/cdef…` (the first two hex digits fan out the
+ * directory), temp files in `<dir>/tmp/`. A blob becomes visible under its final name only after it was fully
+ * written, fsynced and renamed (rename is atomic within one file system), and the directory entry is fsynced.
+ */
+export function createBlobStore(dir: string): BlobStore {
+  const tmpDir = join(dir, 'tmp');
+  const pathOf = (sha256: string): string => join(dir, 'sha256', checkSha(sha256).slice(0, 2), sha256.slice(2));
+  const newTempPath = (label = 'blob'): string =>
+    join(tmpDir, `${label.replace(/[^A-Za-z0-9_-]/g, '_').slice(0, 64)}-${Date.now()}-${randomBytes(6).toString('hex')}.part`);
+
+  async function removeTemp(path: string): Promise<void> {
+    await unlink(path).catch((err: NodeJS.ErrnoException) => {
+      if (err.code !== 'ENOENT') throw err;
+    });
+  }
+
+  /** fsynced temp file -> final name; an existing blob with the same digest has the same bytes, so it is kept. */
+  async function install(tempPath: string, sha256: string, sizeBytes: number): Promise<BlobInfo> {
+    const final = pathOf(sha256);
+    const shard = join(dir, 'sha256', sha256.slice(0, 2));
+    await mkdir(shard, { recursive: true });
+    await rename(tempPath, final);
+    await fsyncDir(shard);
+    return { sha256, sizeBytes, path: final };
+  }
+
+  return {
+    dir,
+    pathOf,
+    async writeStream(source, opts) {
+      await mkdir(tmpDir, { recursive: true });
+      const temp = newTempPath();
+      const file = await open(temp, 'wx');
+      const hash = createHash('sha256');
+      try {
+        const size = await pump(source, file, 0, opts.maxBytes, hash);
+        await file.sync();
+        await file.close();
+        const sha256 = hash.digest('hex');
+        if (opts.expectedSha256 !== undefined && opts.expectedSha256 !== sha256) throw new BlobChecksumError(opts.expectedSha256, sha256);
+        return await install(temp, sha256, size);
+      } catch (err) {
+        await file.close().catch(() => undefined);
+        await removeTemp(temp);
+        throw err;
+      }
+    },
+    async createTemp(label) {
+      await mkdir(tmpDir, { recursive: true });
+      const temp = newTempPath(label);
+      await (await open(temp, 'wx')).close();
+      return temp;
+    },
+    async appendChunk(tempPath, offset, source, opts) {
+      const file = await open(tempPath, 'r+');
+      try {
+        const { size } = await file.stat();
+        if (size !== offset) throw new BlobOffsetError(size, offset);
+        try {
+          const end = await pump(source, file, offset, opts.maxBytes, null);
+          await file.sync();
+          return end;
+        } catch (err) {
+          // keep the file consistent with the last acknowledged offset so the client can resume from it
+          await file.truncate(offset);
+          await file.sync();
+          throw err;
+        }
+      } finally {
+        await file.close();
+      }
+    },
+    async promote(tempPath, expectedSha256) {
+      checkSha(expectedSha256);
+      const { sha256, sizeBytes } = await hashFile(tempPath);
+      if (sha256 !== expectedSha256) throw new BlobChecksumError(expectedSha256, sha256);
+      const file = await open(tempPath, 'r+');
+      try {
+        await file.sync();
+      } finally {
+        await file.close();
+      }
+      return install(tempPath, sha256, sizeBytes);
+    },
+    async has(sha256) {
+      try {
+        return (await stat(pathOf(sha256))).isFile();
+      } catch {
+        return false;
+      }
+    },
+    open(sha256) {
+      const path = pathOf(sha256);
+      if (!existsSync(path)) throw new NotFoundError('blob', sha256);
+      return createReadStream(path);
+    },
+    removeTemp,
+    async sweep(olderThanMs, now = new Date()) {
+      let names: string[];
+      try {
+        names = await readdir(tmpDir);
+      } catch {
+        return 0;
+      }
+      let removed = 0;
+      for (const name of names) {
+        const path = join(tmpDir, name);
+        const info = await stat(path).catch(() => null);
+        if (info?.isFile() && now.getTime() - info.mtimeMs > olderThanMs) {
+          await removeTemp(path);
+          removed += 1;
+        }
+      }
+      return removed;
+    },
+  };
+}

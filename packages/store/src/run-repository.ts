@@ -1,0 +1,137 @@
+import { randomUUID } from 'node:crypto';
+import type { RunListPage, RunListQuery, RunStatus, RunSummary } from '@plumbline/contracts';
+import { RunConflictError } from './errors.ts';
+import { RUN_COLUMNS, isoNow, toRunSummary, type RunRow } from './rows.ts';
+import { afterCursor, decodeCursor, encodeCursor, runFilter, runOrder, sortKeyExprs } from './run-list.ts';
+import type { AnalysisTicket, Db, RunCreate, RunCreateResult, RunRepository } from './types.ts';
+
+function ticketOf(row: Pick<RunRow, 'id' | 'sha256' | 'job_key' | 'generation' | 'policy'>): AnalysisTicket | null {
+  if (row.job_key === null) return null;
+  return { run: row.id, sha256: row.sha256, job_key: row.job_key, generation: row.generation, policy: row.policy };
+}
+
+function normaliseIso(value: string | null): string | null {
+  if (value === null) return null;
+  const t = Date.parse(value);
+  if (Number.isNaN(t)) throw new RangeError(`started_at is not an ISO 8601 date-time: ${value}`);
+  return new Date(t).toISOString();
+}
+
+/** Runs: creation (idempotent per content), lookup, the filtered list, status and analysis generations. */
+export function createRunRepository(db: Db): RunRepository {
+  const byId = db.prepare(`SELECT ${RUN_COLUMNS} FROM runs WHERE id = ?`);
+  const byKey = db.prepare(`SELECT ${RUN_COLUMNS} FROM runs WHERE robot_id = ? AND run_id = ?`);
+  const upsertRobot = db.prepare(
+    `INSERT INTO robots (robot_id, site, created_at, last_run_at) VALUES (?, ?, ?, ?)
+     ON CONFLICT (robot_id) DO UPDATE SET site = excluded.site, last_run_at = excluded.last_run_at`,
+  );
+  const insertRun = db.prepare(
+    `INSERT INTO runs (id, robot_id, run_id, site, started_at, received_at, status, status_reason, sha256, size_bytes, manifest_json)
+     VALUES (@id, @robot_id, @run_id, @site, @started_at, @received_at, @status, @status_reason, @sha256, @size_bytes, @manifest_json)`,
+  );
+  const manifestOf = db.prepare('SELECT manifest_json FROM runs WHERE id = ?').pluck();
+  const bumpGeneration = db.prepare(
+    `UPDATE runs SET generation = generation + 1, job_key = id || ':' || (generation + 1), policy = ?,
+       status = 'queued', status_reason = NULL WHERE id = ? RETURNING id, sha256, job_key, generation, policy`,
+  );
+  const toAnalysing = db.prepare(`UPDATE runs SET status = 'analysing' WHERE id = ? AND job_key = ? AND status IN ('queued', 'analysing')`);
+  const toFailed = db.prepare(
+    `UPDATE runs SET status = 'failed', status_reason = ? WHERE id = ? AND job_key = ? AND status IN ('queued', 'analysing')`,
+  );
+  const pending = db.prepare(
+    `SELECT id, sha256, job_key, generation, policy FROM runs
+     WHERE status IN ('queued', 'analysing') AND job_key IS NOT NULL ORDER BY received_at, id LIMIT ?`,
+  );
+
+  const get = (id: string): RunSummary | null => {
+    const row = byId.get(id) as RunRow | undefined;
+    return row ? toRunSummary(row) : null;
+  };
+
+  const create = db.transaction((input: RunCreate): RunCreateResult => {
+    const existing = byKey.get(input.robot_id, input.run_id) as RunRow | undefined;
+    if (existing) {
+      if (existing.sha256 !== input.sha256) throw new RunConflictError(input.robot_id, input.run_id, existing.sha256);
+      return { run: toRunSummary(existing), created: false };
+    }
+    const now = isoNow();
+    upsertRobot.run(input.robot_id, input.site, now, now);
+    const id = randomUUID();
+    insertRun.run({
+      id,
+      robot_id: input.robot_id,
+      run_id: input.run_id,
+      site: input.site,
+      started_at: normaliseIso(input.started_at),
+      received_at: now,
+      status: input.status ?? 'received',
+      status_reason: input.status_reason ?? null,
+      sha256: input.sha256,
+      size_bytes: input.size_bytes,
+      manifest_json: input.manifest === undefined ? null : JSON.stringify(input.manifest),
+    });
+    return { run: get(id) as RunSummary, created: true };
+  });
+
+  const list = (query: RunListQuery): RunListPage => {
+    const filter = runFilter(query);
+    const keys = sortKeyExprs(query.sort);
+    const where = [filter.sql];
+    const params = [...filter.params];
+    if (query.cursor !== undefined) {
+      const after = afterCursor(query.sort, decodeCursor(query.sort, query.cursor));
+      where.push(after.sql);
+      params.push(...after.params);
+    }
+    const keySelect = keys.map((e, i) => `${e} AS k${i}`).join(', ');
+    const rows = db
+      .prepare(`SELECT ${RUN_COLUMNS}, ${keySelect} FROM runs WHERE ${where.join(' AND ')} ORDER BY ${runOrder(query.sort)} LIMIT ?`)
+      .all(...params, query.limit + 1) as (RunRow & Record<string, unknown>)[];
+    const more = rows.length > query.limit;
+    const page = more ? rows.slice(0, query.limit) : rows;
+    const last = page.at(-1);
+    const next = more && last ? encodeCursor(query.sort, keys.map((_, i) => last[`k${i}`])) : null;
+    const total = db.prepare(`SELECT count(*) FROM runs WHERE ${filter.sql}`).pluck().get(...filter.params) as number;
+    return { items: page.map(toRunSummary), next_cursor: next, total };
+  };
+
+  return {
+    create: (input) => create(input),
+    get,
+    findByKey(robotId, runId) {
+      const row = byKey.get(robotId, runId) as RunRow | undefined;
+      return row ? toRunSummary(row) : null;
+    },
+    manifest(id) {
+      const text = manifestOf.get(id) as string | null | undefined;
+      return typeof text === 'string' ? (JSON.parse(text) as unknown) : null;
+    },
+    list,
+    idsMatching(query, max = 100_000) {
+      const filter = runFilter(query);
+      return db
+        .prepare(`SELECT id FROM runs WHERE ${filter.sql} ORDER BY received_at, id LIMIT ?`)
+        .pluck()
+        .all(...filter.params, max) as string[];
+    },
+    setStatus(id: string, status: RunStatus, opts = {}) {
+      const from = opts.from ?? [];
+      const guard = from.length > 0 ? ` AND status IN (${from.map(() => '?').join(', ')})` : '';
+      const info = db.prepare(`UPDATE runs SET status = ?, status_reason = ? WHERE id = ?${guard}`).run(status, opts.reason ?? null, id, ...from);
+      return info.changes > 0;
+    },
+    requestAnalysis(id, opts = {}) {
+      const row = bumpGeneration.get(opts.policy ?? null, id) as RunRow | undefined;
+      return row ? ticketOf(row) : null;
+    },
+    markAnalysing: (id, jobKey) => toAnalysing.run(id, jobKey).changes > 0,
+    markFailed: (id, jobKey, reason) => toFailed.run(reason, id, jobKey).changes > 0,
+    ticket(id) {
+      const row = byId.get(id) as RunRow | undefined;
+      return row ? ticketOf(row) : null;
+    },
+    pendingTickets(limit = 10_000) {
+      return (pending.all(limit) as RunRow[]).map(ticketOf).filter((t): t is AnalysisTicket => t !== null);
+    },
+  };
+}
