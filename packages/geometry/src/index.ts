@@ -3,6 +3,7 @@ export * as mat3 from './mat3.ts';
 export * as quat from './quat.ts';
 export * as so3 from './so3.ts';
 export * as pose from './pose.ts';
+export * as dense from './dense.ts';
 export { PoseInterpolator, poseAt, searchFloor } from './pose-interpolator.ts';
 export type { Vec3 } from './vec3.ts';
 export type { Mat3 } from './mat3.ts';
