@@ -1,0 +1,107 @@
+import { randomUUID } from 'node:crypto';
+import type { Readable } from 'node:stream';
+import Fastify, { type FastifyBaseLogger, type FastifyInstance } from 'fastify';
+import multipart from '@fastify/multipart';
+import type { Logger } from 'pino';
+import * as contracts from '@plumbline/contracts';
+import type { Config } from '@plumbline/config';
+import type { BlobStore, Store } from '@plumbline/store';
+import type { JobQueue } from '@plumbline/queue';
+import { createAuthenticator } from './plugins/auth.ts';
+import { OpenApiRegistry, sharedSchemas } from './plugins/openapi.ts';
+import { registerProblemHandler } from './plugins/problem.ts';
+import { TokenBucketLimiter } from './plugins/rate-limit.ts';
+import type { RouteContext } from './plugins/route.ts';
+import { registerSecurity, requestIdFrom } from './plugins/security.ts';
+import { registerStatic } from './plugins/static.ts';
+import { createServiceMetrics, type ServiceMetrics } from './metrics.ts';
+import { registerHealthRoutes } from './routes/health.ts';
+import { registerRunRoutes } from './routes/runs.ts';
+import { registerUploadRoutes } from './routes/uploads.ts';
+import { registerReviewRoutes } from './routes/reviews.ts';
+import { registerRobotRoutes } from './routes/robots.ts';
+import { registerTokenRoutes } from './routes/tokens.ts';
+import { registerWebhookRoutes } from './routes/webhooks.ts';
+import { registerDocRoutes } from './routes/docs.ts';
+
+export interface Clock {
+  now(): Date;
+}
+
+/** What upload validation needs from a bundle: its parsed manifest. Throws BundleError for a bad archive. */
+export type InspectBundle = (archivePath: string) => Promise<{ manifest: contracts.RunManifest }>;
+
+/** Streams a trajectory as CSV for the download route; `repaired` applies the report's corrections. */
+export type TrajectoryCsv = (archivePath: string, report: contracts.Report, variant: 'original' | 'repaired') => Readable | Promise<Readable>;
+
+export interface AppDeps {
+  store: Store;
+  blobs: BlobStore;
+  queue: JobQueue;
+  logger: Logger;
+  clock: Clock;
+  inspectBundle: InspectBundle;
+  /** Absent: the trajectory.csv route answers 503 until wired. */
+  trajectoryCsv?: TrajectoryCsv;
+  metrics?: ServiceMetrics;
+  /** Dashboard build directory; null/absent = no static files. */
+  dashboardDir?: string | null;
+}
+
+/** Everything a route file needs: the app, deps, config, the route helper context. */
+export interface ApiContext extends RouteContext {
+  config: Config;
+  deps: AppDeps;
+  metrics: ServiceMetrics;
+  uploadLimiter: TokenBucketLimiter;
+}
+
+const BUNDLE_TYPES = ['application/gzip', 'application/x-gzip', 'application/x-tar', 'application/zip', 'application/octet-stream'];
+
+/**
+ * Builds the HTTP API. No socket is opened (see server.ts); tests call `app.inject()`.
+ * Bundle bodies are not parsed: the content type parser hands the request stream to the route, which streams it
+ * into the blob store.
+ */
+export async function buildApp(config: Config, deps: AppDeps): Promise<FastifyInstance & { metrics: ServiceMetrics }> {
+  const app: FastifyInstance = Fastify({
+    loggerInstance: deps.logger as FastifyBaseLogger,
+    genReqId: (req) => requestIdFrom(req.headers['x-request-id'], randomUUID),
+    bodyLimit: 1024 * 1024,
+    trustProxy: false,
+    return503OnClosing: true,
+  });
+  const metrics = deps.metrics ?? createServiceMetrics();
+  registerProblemHandler(app);
+  registerSecurity(app, { corsOrigins: config.corsOrigins, hsts: (config.publicUrl ?? '').startsWith('https://') });
+  app.addContentTypeParser(BUNDLE_TYPES, (_req, payload, done) => done(null, payload));
+  await app.register(multipart, {
+    limits: { fileSize: config.maxUploadBytes + 1, files: 1, fields: 4, parts: 5, fieldSize: 1024 },
+    throwFileSizeLimit: false,
+  });
+  app.addHook('onResponse', async (req, reply) => {
+    const route = req.routeOptions.url ?? 'unmatched';
+    metrics.httpDuration.observe({ method: req.method, route, status: String(reply.statusCode) }, reply.elapsedTime / 1000);
+  });
+
+  const nowMs = () => deps.clock.now().getTime();
+  const ctx: ApiContext = {
+    app,
+    config,
+    deps,
+    metrics,
+    openapi: new OpenApiRegistry(sharedSchemas(contracts)),
+    authenticate: createAuthenticator(deps.store.tokens, new TokenBucketLimiter(config.authFailureRatePerMin, 60_000, nowMs)),
+    uploadLimiter: new TokenBucketLimiter(config.uploadRatePerMin, 60_000, nowMs),
+  };
+  registerHealthRoutes(ctx);
+  registerRunRoutes(ctx);
+  registerUploadRoutes(ctx);
+  registerReviewRoutes(ctx);
+  registerRobotRoutes(ctx);
+  registerTokenRoutes(ctx);
+  registerWebhookRoutes(ctx);
+  registerDocRoutes(ctx);
+  if (deps.dashboardDir) await registerStatic(app, deps.dashboardDir);
+  return Object.assign(app, { metrics });
+}

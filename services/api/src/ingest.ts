@@ -1,0 +1,56 @@
+import type { RunSummary } from '@plumbline/contracts';
+import type { BlobInfo, Store } from '@plumbline/store';
+import type { JobQueue } from '@plumbline/queue';
+import type { AppDeps } from './app.ts';
+import { actorOf, type Principal } from './plugins/auth.ts';
+import { errors } from './errors.ts';
+
+/**
+ * Starts a new analysis generation of a run and enqueues it. The job key doubles as the queue job id, so a
+ * re-enqueue of the same generation (restart, retry of the HTTP call) is a no-op in the queue.
+ */
+export async function requestAnalysis(store: Store, queue: JobQueue, runId: string, policy?: string | null): Promise<boolean> {
+  const ticket = store.runs.requestAnalysis(runId, { policy: policy ?? null });
+  if (!ticket) return false;
+  await queue.enqueue(
+    { run: ticket.run, sha256: ticket.sha256, attempt_tag: ticket.job_key, ...(ticket.policy ? { policy: ticket.policy } : {}) },
+    { jobId: ticket.job_key },
+  );
+  return true;
+}
+
+/**
+ * After a bundle is stored: check its manifest, create the run (`received`), enqueue it (`queued`).
+ * Archive and manifest problems are refused here with 422 (nothing is stored as a run); problems inside the data
+ * streams are found by the analysis, which then marks the run `rejected` with the reason.
+ * Idempotent on (robot_id, run_id, sha256); the same run id with other content is a 409.
+ */
+export async function ingestBlob(
+  deps: Pick<AppDeps, 'store' | 'queue' | 'inspectBundle'>,
+  principal: Principal,
+  blob: BlobInfo,
+  declared?: { robot_id: string; run_id: string },
+): Promise<{ run: RunSummary; created: boolean }> {
+  const { manifest } = await deps.inspectBundle(blob.path);
+  if (principal.role === 'robot' && manifest.robot_id !== principal.robotId) {
+    throw errors.ROBOT_MISMATCH(principal.robotId ?? '(none)', manifest.robot_id).with({ file: 'run.json' });
+  }
+  if (declared && (declared.robot_id !== manifest.robot_id || declared.run_id !== manifest.run_id)) {
+    throw errors.BUNDLE_INVALID(
+      `run.json names ${manifest.robot_id}/${manifest.run_id} but the upload session was opened for ${declared.robot_id}/${declared.run_id}`,
+    ).with({ file: 'run.json' });
+  }
+  const { run, created } = deps.store.runs.create({
+    robot_id: manifest.robot_id,
+    run_id: manifest.run_id,
+    site: manifest.site,
+    started_at: manifest.started_at,
+    sha256: blob.sha256,
+    size_bytes: blob.sizeBytes,
+    manifest,
+  });
+  if (created) deps.store.audit.append(actorOf(principal), 'run.received', run.id, { sha256: blob.sha256, size_bytes: blob.sizeBytes });
+  // A run left `received` (crash between create and enqueue) is enqueued by its next identical upload.
+  if (created || run.status === 'received') await requestAnalysis(deps.store, deps.queue, run.id);
+  return { run: deps.store.runs.get(run.id) ?? run, created };
+}

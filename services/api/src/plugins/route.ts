@@ -1,0 +1,108 @@
+import type { FastifyInstance, FastifyReply, FastifyRequest } from 'fastify';
+import { z } from 'zod';
+import type { Role } from '@plumbline/contracts';
+import { errors } from '../errors.ts';
+import type { OpenApiRegistry } from './openapi.ts';
+import type { Principal } from './auth.ts';
+
+type Method = 'GET' | 'POST' | 'PUT' | 'DELETE';
+
+/** A non-JSON body or response, documented by content type only (bundles, CSV, HTML). */
+export interface RawContent {
+  contentTypes: readonly string[];
+  description: string;
+}
+
+export interface RouteSpec<P extends z.ZodType, Q extends z.ZodType, B extends z.ZodType> {
+  method: Method;
+  url: string;
+  operationId: string;
+  summary: string;
+  tag: string;
+  /** Roles allowed to call the route; `public` = no token needed. The one place a route states its access. */
+  auth: readonly Role[] | 'public';
+  params?: P;
+  query?: Q;
+  /** JSON request body, validated. */
+  body?: B;
+  /** Streamed request body (the route reads it itself). */
+  rawBody?: RawContent;
+  /** Response schemas by status; JSON responses are validated against them before they are sent. */
+  responses: Record<number, z.ZodType | RawContent>;
+  /** Extra hooks run after authentication (e.g. rate limits). */
+  preHandler?: (req: FastifyRequest) => void | Promise<void>;
+}
+
+export interface RouteInput<P extends z.ZodType, Q extends z.ZodType, B extends z.ZodType> {
+  params: z.output<P>;
+  query: z.output<Q>;
+  body: z.output<B>;
+  /** Null only on public routes. */
+  principal: Principal;
+}
+
+export type RouteHandler<P extends z.ZodType, Q extends z.ZodType, B extends z.ZodType> = (
+  req: FastifyRequest,
+  input: RouteInput<P, Q, B>,
+  reply: FastifyReply,
+) => Promise<unknown>;
+
+export interface RouteContext {
+  app: FastifyInstance;
+  openapi: OpenApiRegistry;
+  authenticate: (req: FastifyRequest, roles: readonly Role[]) => Principal;
+}
+
+function isRaw(x: z.ZodType | RawContent): x is RawContent {
+  return (x as RawContent).contentTypes !== undefined;
+}
+
+function parsePart<S extends z.ZodType>(schema: S | undefined, value: unknown, where: string): z.output<S> {
+  if (!schema) return undefined as z.output<S>;
+  const r = schema.safeParse(value);
+  if (!r.success) {
+    const issues = r.error.issues.map((i) => ({ path: i.path.join('.'), message: i.message }));
+    const first = issues[0];
+    const text = first ? `${first.path || '(root)'}: ${first.message}` : 'does not match the schema';
+    throw errors.VALIDATION_FAILED(where, text).with({ issues });
+  }
+  return r.data;
+}
+
+/**
+ * Registers a route whose params, query, body and response are checked with zod, and records it in the
+ * OpenAPI document. Validation failures become 400 problems naming the field; a response that does not match
+ * its schema is a server bug and becomes a 500 (logged with the issues).
+ */
+export function defineRoute<P extends z.ZodType, Q extends z.ZodType, B extends z.ZodType>(
+  ctx: RouteContext,
+  spec: RouteSpec<P, Q, B>,
+  handler: RouteHandler<P, Q, B>,
+): void {
+  ctx.openapi.add(spec);
+  ctx.app.route({
+    method: spec.method,
+    url: spec.url,
+    config: { operationId: spec.operationId },
+    handler: async (req, reply) => {
+      const principal = spec.auth === 'public' ? (null as unknown as Principal) : ctx.authenticate(req, spec.auth);
+      if (spec.preHandler) await spec.preHandler(req);
+      const input: RouteInput<P, Q, B> = {
+        params: parsePart(spec.params, req.params, 'path parameters'),
+        query: parsePart(spec.query, req.query, 'query'),
+        body: parsePart(spec.body, req.body, 'body'),
+        principal,
+      };
+      const result = await handler(req, input, reply);
+      if (reply.sent || result === reply) return reply;
+      const schema = spec.responses[reply.statusCode];
+      if (!schema || isRaw(schema)) return reply.send(result);
+      const checked = schema.safeParse(result);
+      if (!checked.success) {
+        req.log.error({ operationId: spec.operationId, issues: checked.error.issues.slice(0, 5) }, 'response does not match its schema');
+        throw errors.INTERNAL(String(req.id));
+      }
+      return reply.send(checked.data);
+    },
+  });
+}

@@ -1,0 +1,167 @@
+import { open } from 'node:fs/promises';
+import type { Readable } from 'node:stream';
+import type { FastifyRequest } from 'fastify';
+import { z } from 'zod';
+import { AuditEntry, Report, RunDetail, RunListPage, RunListQuery, RunSummary } from '@plumbline/contracts';
+import type { ApiContext } from '../app.ts';
+import { errors } from '../errors.ts';
+import { ingestBlob, requestAnalysis } from '../ingest.ts';
+import { actorOf } from '../plugins/auth.ts';
+import { defineRoute } from '../plugins/route.ts';
+import { ALL_ROLES, assertLengthWithin, IdParams, READERS, uploadRateLimit, visibleRun } from './common.ts';
+
+export const BUNDLE_CONTENT_TYPES = ['application/gzip', 'application/x-gzip', 'application/x-tar', 'application/zip', 'application/octet-stream'];
+const Ingested = z.object({ run: RunSummary, created: z.boolean() }).strict();
+const Reanalysed = z.object({ run: RunSummary }).strict();
+const ReanalyseOne = z.object({ policy: z.string().max(128).optional() }).strict().default({});
+/** Bulk re-analysis: the filter fields of RunListQuery plus an optional policy name. */
+const ReanalyseMany = RunListQuery.omit({ sort: true, limit: true, cursor: true })
+  .extend({ policy: z.string().max(128).optional(), max_runs: z.number().int().min(1).max(10_000).default(1000) })
+  .strict();
+const TrajectoryQuery = z.object({ variant: z.enum(['repaired', 'original']).default('original') }).strict();
+
+/** The request body as a stream: the `bundle` part of a multipart form, or the raw body of an archive type. */
+async function bundleSource(req: FastifyRequest): Promise<Readable> {
+  const ct = String(req.headers['content-type'] ?? '').split(';')[0]?.trim().toLowerCase() ?? '';
+  if (ct === 'multipart/form-data') {
+    const part = await req.file();
+    if (!part || part.fieldname !== 'bundle') throw errors.VALIDATION_FAILED('body', 'the multipart form needs a file field named "bundle"');
+    return part.file;
+  }
+  if (BUNDLE_CONTENT_TYPES.includes(ct)) return req.body as Readable;
+  throw errors.UNSUPPORTED_MEDIA_TYPE(ct || '(none)', `${BUNDLE_CONTENT_TYPES.join(', ')} or multipart/form-data`);
+}
+
+async function sniffArchive(path: string): Promise<{ type: string; ext: string }> {
+  const fh = await open(path, 'r');
+  try {
+    const buf = Buffer.alloc(4);
+    await fh.read(buf, 0, 4, 0);
+    if (buf[0] === 0x1f && buf[1] === 0x8b) return { type: 'application/gzip', ext: 'tar.gz' };
+    if (buf[0] === 0x50 && buf[1] === 0x4b) return { type: 'application/zip', ext: 'zip' };
+    return { type: 'application/x-tar', ext: 'tar' };
+  } finally {
+    await fh.close();
+  }
+}
+
+export function registerRunRoutes(ctx: ApiContext): void {
+  const { store, blobs, queue } = ctx.deps;
+  defineRoute(
+    ctx,
+    {
+      method: 'POST',
+      url: '/api/v1/runs',
+      operationId: 'uploadRun',
+      summary: 'Upload a run bundle in one request (streamed to storage; idempotent on robot, run id and content)',
+      tag: 'runs',
+      auth: ['robot', 'admin'],
+      rawBody: { contentTypes: [...BUNDLE_CONTENT_TYPES, 'multipart/form-data'], description: 'The bundle archive (.tar.gz, .tar or .zip), or a form with a file field "bundle"' },
+      responses: { 201: Ingested, 200: Ingested },
+      preHandler: uploadRateLimit(ctx),
+    },
+    async (req, { principal }, reply) => {
+      assertLengthWithin(req, ctx.config.maxUploadBytes);
+      const blob = await blobs.writeStream(await bundleSource(req), { maxBytes: ctx.config.maxUploadBytes });
+      ctx.metrics.uploadBytes.inc({ kind: 'whole' }, blob.sizeBytes);
+      const result = await ingestBlob(ctx.deps, principal, blob);
+      reply.code(result.created ? 201 : 200);
+      return result;
+    },
+  );
+  defineRoute(
+    ctx,
+    { method: 'GET', url: '/api/v1/runs', operationId: 'listRuns', summary: 'List runs (filters, sort, cursor pagination)', tag: 'runs', auth: ALL_ROLES, query: RunListQuery, responses: { 200: RunListPage } },
+    async (_req, { query, principal }) => store.runs.list(principal.role === 'robot' ? { ...query, robot_id: principal.robotId ?? '' } : query),
+  );
+  defineRoute(
+    ctx,
+    { method: 'GET', url: '/api/v1/runs/:id', operationId: 'getRun', summary: 'One run: summary, current report and reviews', tag: 'runs', auth: ALL_ROLES, params: IdParams, responses: { 200: RunDetail } },
+    async (_req, { params, principal }) => {
+      const summary = visibleRun(ctx, principal, params.id);
+      return { summary, report: store.reports.current(params.id), reviews: store.reviews.list(params.id) };
+    },
+  );
+  defineRoute(
+    ctx,
+    { method: 'GET', url: '/api/v1/runs/:id/report', operationId: 'getReport', summary: 'The current analysis report of a run', tag: 'runs', auth: ALL_ROLES, params: IdParams, responses: { 200: Report } },
+    async (_req, { params, principal }) => {
+      const run = visibleRun(ctx, principal, params.id);
+      const report = store.reports.current(run.id);
+      if (!report) throw errors.REPORT_NOT_READY(run.id, run.status);
+      return report;
+    },
+  );
+  defineRoute(
+    ctx,
+    {
+      method: 'GET',
+      url: '/api/v1/runs/:id/trajectory.csv',
+      operationId: 'getTrajectoryCsv',
+      summary: 'The odometry trajectory as CSV, as recorded or with the report corrections applied',
+      tag: 'runs',
+      auth: ALL_ROLES,
+      params: IdParams,
+      query: TrajectoryQuery,
+      responses: { 200: { contentTypes: ['text/csv'], description: 'CSV with a header line' } },
+    },
+    async (_req, { params, query, principal }, reply) => {
+      const run = visibleRun(ctx, principal, params.id);
+      const report = store.reports.current(run.id);
+      if (!report) throw errors.REPORT_NOT_READY(run.id, run.status);
+      if (!ctx.deps.trajectoryCsv) throw errors.NOT_READY('trajectory export is not available in this deployment');
+      const stream = await ctx.deps.trajectoryCsv(blobs.pathOf(run.sha256), report, query.variant);
+      reply.header('content-disposition', `attachment; filename="${run.robot_id}_${run.run_id}_${query.variant}.csv"`);
+      return reply.type('text/csv; charset=utf-8').send(stream);
+    },
+  );
+  defineRoute(
+    ctx,
+    {
+      method: 'GET',
+      url: '/api/v1/runs/:id/bundle',
+      operationId: 'getBundle',
+      summary: 'The bundle archive as uploaded',
+      tag: 'runs',
+      auth: ALL_ROLES,
+      params: IdParams,
+      responses: { 200: { contentTypes: ['application/gzip', 'application/zip', 'application/x-tar'], description: 'The archive' } },
+    },
+    async (_req, { params, principal }, reply) => {
+      const run = visibleRun(ctx, principal, params.id);
+      const { type, ext } = await sniffArchive(blobs.pathOf(run.sha256));
+      reply.header('content-disposition', `attachment; filename="${run.robot_id}_${run.run_id}.${ext}"`);
+      reply.header('content-length', run.size_bytes);
+      return reply.type(type).send(blobs.open(run.sha256));
+    },
+  );
+  defineRoute(
+    ctx,
+    { method: 'POST', url: '/api/v1/runs/:id/reanalyse', operationId: 'reanalyseRun', summary: 'Analyse a run again (new generation; older results are refused)', tag: 'runs', auth: ['admin'], params: IdParams, body: ReanalyseOne, responses: { 202: Reanalysed } },
+    async (_req, { params, body, principal }, reply) => {
+      const run = visibleRun(ctx, principal, params.id);
+      await requestAnalysis(store, queue, run.id, body.policy);
+      store.audit.append(actorOf(principal), 'run.reanalyse-requested', run.id, { policy: body.policy ?? null });
+      reply.code(202);
+      return { run: store.runs.get(run.id) ?? run };
+    },
+  );
+  defineRoute(
+    ctx,
+    { method: 'POST', url: '/api/v1/reanalyse', operationId: 'reanalyseRuns', summary: 'Analyse every run matching a filter again', tag: 'runs', auth: ['admin'], body: ReanalyseMany, responses: { 202: z.object({ queued: z.number().int() }).strict() } },
+    async (_req, { body, principal }, reply) => {
+      const { policy, max_runs, ...filter } = body;
+      const ids = store.runs.idsMatching(filter, max_runs);
+      let queued = 0;
+      for (const id of ids) if (await requestAnalysis(store, queue, id, policy)) queued++;
+      store.audit.append(actorOf(principal), 'runs.reanalyse-requested', 'runs', { filter, policy: policy ?? null, queued });
+      reply.code(202);
+      return { queued };
+    },
+  );
+  defineRoute(
+    ctx,
+    { method: 'GET', url: '/api/v1/runs/:id/audit', operationId: 'getRunAudit', summary: 'Audit trail of a run, newest first', tag: 'runs', auth: READERS, params: IdParams, responses: { 200: z.array(AuditEntry) } },
+    async (_req, { params, principal }) => store.audit.list({ subject: visibleRun(ctx, principal, params.id).id, limit: 500 }),
+  );
+}
