@@ -1,2 +1,6 @@
 export * from './types.ts';
 export * from './errors.ts';
+export { createEmbeddedQueue } from './embedded.ts';
+export { createBullmqQueue, obliterateBullmqQueue } from './bullmq.ts';
+export { createQueue } from './create-queue.ts';
+export { retryDelayMs } from './backoff.ts';

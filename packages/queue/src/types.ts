@@ -22,7 +22,8 @@ export interface QueueJob {
 export type JobHandler = (job: QueueJob) => Promise<void>;
 
 export interface EnqueueOptions {
-  /** Dedup key; a job with the same id that is not finished makes this call a no-op returning the id. */
+  /** Dedup key; a job with the same id that is not finished makes this call a no-op returning the id.
+   *  Must not contain ":" (RangeError). */
   jobId?: string;
   delayMs?: number;
 }
@@ -36,8 +37,7 @@ export interface QueueCounts {
   waiting: number;
   active: number;
   delayed: number;
-  /** Failed attempts waiting for a retry are counted as delayed; `failed` is jobs that failed and will retry
-   *  (embedded: jobs in backoff whose last attempt failed). */
+  /** Jobs whose last attempt failed and that wait for a retry (a subset of waiting + delayed). */
   failed: number;
   /** Dead-lettered: exhausted attempts or unrecoverable. */
   dead: number;

@@ -31,7 +31,7 @@ export function createRunRepository(db: Db): RunRepository {
   );
   const manifestOf = db.prepare('SELECT manifest_json FROM runs WHERE id = ?').pluck();
   const bumpGeneration = db.prepare(
-    `UPDATE runs SET generation = generation + 1, job_key = id || ':' || (generation + 1), policy = ?,
+    `UPDATE runs SET generation = generation + 1, job_key = id || '-g' || (generation + 1), policy = ?,
        status = 'queued', status_reason = NULL WHERE id = ? RETURNING id, sha256, job_key, generation, policy`,
   );
   const toAnalysing = db.prepare(`UPDATE runs SET status = 'analysing' WHERE id = ? AND job_key = ? AND status IN ('queued', 'analysing')`);

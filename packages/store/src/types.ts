@@ -64,7 +64,7 @@ export interface RunCreateResult {
 export interface AnalysisTicket {
   run: string;
   sha256: string;
-  /** `${runId}:${generation}`; use it as the queue jobId and as AnalysisJob.attempt_tag. */
+  /** `${runId}-g${generation}` (no ":" — BullMQ forbids it in custom ids); use it as the queue jobId and as AnalysisJob.attempt_tag. */
   job_key: string;
   generation: number;
   policy: string | null;

@@ -1,0 +1,105 @@
+import { mkdtempSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { openDatabase } from '@plumbline/store';
+import { describe, expect, it } from 'vitest';
+import { createEmbeddedQueue } from './embedded.ts';
+import { createJobTable } from './job-table.ts';
+import { describeQueueContract, job, waitFor } from './testing/queue-contract.ts';
+
+describeQueueContract('embedded (SQLite)', async ({ maxAttempts, backoffMs }) => {
+  const db = openDatabase(':memory:');
+  return {
+    queue: createEmbeddedQueue(db, { maxAttempts, backoffMs, pollIntervalMs: 20, leaseMs: 2000 }),
+    cleanup: async () => void db.close(),
+  };
+});
+
+describe('embedded queue: leases', () => {
+  it('re-delivers a job whose worker died once the lease has lapsed', async () => {
+    const db = openDatabase(':memory:');
+    const queue = createEmbeddedQueue(db, { pollIntervalMs: 20, leaseMs: 2000 });
+    await queue.enqueue(job(1), { jobId: 'j1' });
+    // a "worker" claims the job with a 150 ms lease and dies: no heartbeat, no completion
+    const dead = createJobTable(db, 'analysis').claim(Date.now(), 150);
+    expect(dead?.id).toBe('j1');
+    expect((await queue.counts()).active).toBe(1);
+    const attempts: number[] = [];
+    const started = Date.now();
+    queue.work(async (j) => void attempts.push(j.attempt), { concurrency: 1 });
+    await waitFor(async () => (await queue.counts()).completed === 1, 5000, 're-delivery');
+    expect(attempts).toEqual([2]); // the lost attempt counts
+    expect(Date.now() - started).toBeGreaterThanOrEqual(100); // not before the 150 ms lease ran out
+    await queue.close();
+    db.close();
+  });
+
+  it('keeps a long job leased by renewing the lease while the handler runs', async () => {
+    const db = openDatabase(':memory:');
+    const queue = createEmbeddedQueue(db, { pollIntervalMs: 20, leaseMs: 120 });
+    await queue.enqueue(job(2));
+    let runs = 0;
+    queue.work(async () => {
+      runs += 1;
+      await new Promise((r) => setTimeout(r, 500)); // > 4 lease lengths
+    }, { concurrency: 2 });
+    await waitFor(async () => (await queue.counts()).completed === 1, 5000, 'completion');
+    expect(runs).toBe(1); // a second worker slot never stole the job
+    await queue.close();
+    db.close();
+  });
+
+  it('dead-letters a job whose lease lapsed on its last attempt', async () => {
+    const db = openDatabase(':memory:');
+    const queue = createEmbeddedQueue(db, { pollIntervalMs: 20, maxAttempts: 1 });
+    await queue.enqueue(job(3));
+    createJobTable(db, 'analysis').claim(Date.now(), 50);
+    await new Promise((r) => setTimeout(r, 80));
+    let ran = false;
+    queue.work(async () => void (ran = true), { concurrency: 1 });
+    await waitFor(async () => (await queue.counts()).dead === 1, 5000, 'dead-letter');
+    expect(ran).toBe(false);
+    await queue.close();
+    db.close();
+  });
+});
+
+describe('embedded queue: durability', () => {
+  it('keeps waiting jobs across a restart (close the database, reopen)', async () => {
+    const dir = mkdtempSync(join(tmpdir(), 'plumbline-queue-'));
+    try {
+      const path = join(dir, 'plumbline.db');
+      const db1 = openDatabase(path);
+      const q1 = createEmbeddedQueue(db1);
+      await q1.enqueue(job(4), { jobId: 'survivor' });
+      await q1.close();
+      db1.close();
+
+      const db2 = openDatabase(path);
+      const q2 = createEmbeddedQueue(db2, { pollIntervalMs: 20 });
+      expect((await q2.counts()).waiting).toBe(1);
+      const seen: string[] = [];
+      q2.work(async (j) => void seen.push(`${j.id}:${j.payload.run}`), { concurrency: 1 });
+      await waitFor(async () => (await q2.counts()).completed === 1, 5000, 'completion after restart');
+      expect(seen).toEqual(['survivor:run-4']);
+      await q2.close();
+      db2.close();
+    } finally {
+      rmSync(dir, { recursive: true, force: true });
+    }
+  });
+
+  it('dead-letters an invalid payload without calling the handler', async () => {
+    const db = openDatabase(':memory:');
+    const queue = createEmbeddedQueue(db, { pollIntervalMs: 20 });
+    createJobTable(db, 'analysis').insert('bad', '{"run": 5}', Date.now(), 5, Date.now());
+    let called = false;
+    queue.work(async () => void (called = true), { concurrency: 1 });
+    await waitFor(async () => (await queue.counts()).dead === 1, 5000, 'dead-letter');
+    expect(called).toBe(false);
+    const row = db.prepare("SELECT last_error FROM jobs WHERE id = 'bad'").pluck().get() as string;
+    expect(row).toMatch(/UnrecoverableJobError: invalid job payload/);
+    await queue.close();
+    db.close();
+  });
+});

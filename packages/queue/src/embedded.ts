@@ -1,0 +1,163 @@
+import { randomUUID } from 'node:crypto';
+import { EventEmitter } from 'node:events';
+import { AnalysisJob } from '@plumbline/contracts';
+import type Database from 'better-sqlite3';
+import { UnrecoverableJobError } from './errors.ts';
+import { createJobTable, type ClaimedJob, type JobTable } from './job-table.ts';
+import { retryDelayMs } from './backoff.ts';
+import type { EmbeddedQueueOptions, JobHandler, JobQueue, QueueWorker } from './types.ts';
+
+// One wake-up channel per database handle, so an enqueue wakes every worker of that database in this process.
+const wakeups = new WeakMap<Database.Database, EventEmitter>();
+function wakeupOf(db: Database.Database): EventEmitter {
+  let emitter = wakeups.get(db);
+  if (!emitter) {
+    emitter = new EventEmitter();
+    emitter.setMaxListeners(0);
+    wakeups.set(db, emitter);
+  }
+  return emitter;
+}
+
+interface Settings {
+  maxAttempts: number;
+  backoffMs: number;
+  leaseMs: number;
+  pollIntervalMs: number;
+  queueName: string;
+}
+
+function errorText(err: unknown): string {
+  return err instanceof Error ? `${err.name}: ${err.message}` : String(err);
+}
+
+/** A payload that is not a valid AnalysisJob will never succeed: unrecoverable. */
+function parsePayload(text: string): AnalysisJob {
+  let value: unknown;
+  try {
+    value = JSON.parse(text);
+  } catch (err) {
+    throw new UnrecoverableJobError(`job payload is not JSON: ${(err as Error).message}`);
+  }
+  const parsed = AnalysisJob.safeParse(value);
+  if (!parsed.success) throw new UnrecoverableJobError(`invalid job payload: ${parsed.error.message}`);
+  return parsed.data;
+}
+
+/** Runs one claimed job: heartbeat while the handler runs, then complete, retry later, or dead-letter. */
+async function runJob(table: JobTable, s: Settings, claimed: ClaimedJob, handler: JobHandler): Promise<void> {
+  const beat = setInterval(() => {
+    const now = Date.now();
+    table.renew(claimed.id, claimed.lease_token, now + s.leaseMs, now);
+  }, Math.max(10, Math.floor(s.leaseMs / 3)));
+  try {
+    await handler({ id: claimed.id, payload: parsePayload(claimed.payload), attempt: claimed.attempts });
+    table.complete(claimed.id, claimed.lease_token, Date.now());
+  } catch (err) {
+    const now = Date.now();
+    const last = err instanceof UnrecoverableJobError || claimed.attempts >= claimed.max_attempts;
+    table.fail(claimed.id, claimed.lease_token, errorText(err), last ? null : now + retryDelayMs(claimed.attempts, s.backoffMs), now);
+  } finally {
+    clearInterval(beat);
+  }
+}
+
+function startWorker(db: Database.Database, table: JobTable, s: Settings, handler: JobHandler, concurrency: number): QueueWorker {
+  if (!Number.isInteger(concurrency) || concurrency < 1) throw new RangeError(`concurrency must be a positive integer, got ${concurrency}`);
+  const wake = wakeupOf(db);
+  const inFlight = new Set<Promise<void>>();
+  let running = true;
+  let timer: NodeJS.Timeout | undefined;
+
+  const fill = (): void => {
+    if (timer) clearTimeout(timer);
+    timer = undefined;
+    while (running && inFlight.size < concurrency) {
+      if (!db.open) {
+        running = false;
+        return;
+      }
+      let claimed: ClaimedJob | null;
+      try {
+        claimed = table.claim(Date.now(), s.leaseMs);
+      } catch {
+        break; // e.g. SQLITE_BUSY beyond busy_timeout: try again at the next poll
+      }
+      if (!claimed) break;
+      const p: Promise<void> = runJob(table, s, claimed, handler).finally(() => {
+        inFlight.delete(p);
+        if (running) setImmediate(fill);
+      });
+      inFlight.add(p);
+    }
+    if (running) timer = setTimeout(fill, s.pollIntervalMs);
+  };
+  const onWake = (queueName: string): void => {
+    if (queueName === s.queueName && running) setImmediate(fill);
+  };
+  wake.on('enqueued', onWake);
+  setImmediate(fill);
+
+  return {
+    async close() {
+      running = false;
+      wake.off('enqueued', onWake);
+      if (timer) clearTimeout(timer);
+      await Promise.allSettled([...inFlight]);
+    },
+  };
+}
+
+/**
+ * Job queue in the SQLite database of the store (`jobs` table). Durable across restarts; a claimed job is leased
+ * for `leaseMs` and the lease renewed while its handler runs, so a job whose process died is claimed again after
+ * the lease lapses. Polls every `pollIntervalMs` and is woken at once by an enqueue in the same process.
+ */
+export function createEmbeddedQueue(db: Database.Database, opts: EmbeddedQueueOptions = {}): JobQueue {
+  const s: Settings = {
+    maxAttempts: opts.maxAttempts ?? 5,
+    backoffMs: opts.backoffMs ?? 1000,
+    leaseMs: opts.leaseMs ?? 30_000,
+    pollIntervalMs: opts.pollIntervalMs ?? 500,
+    queueName: opts.queueName ?? 'analysis',
+  };
+  const table = createJobTable(db, s.queueName);
+  const workers = new Set<QueueWorker>();
+
+  return {
+    async enqueue(payload, enqueueOpts = {}) {
+      const id = enqueueOpts.jobId ?? randomUUID();
+      // the BullMQ adapter cannot take ":" in ids; refuse it here too so both adapters accept the same ids
+      if (id.includes(':') || id.length === 0) throw new RangeError(`job id must be non-empty and contain no ":": ${id}`);
+      const now = Date.now();
+      table.insert(id, JSON.stringify(payload), now + Math.max(0, enqueueOpts.delayMs ?? 0), s.maxAttempts, now);
+      wakeupOf(db).emit('enqueued', s.queueName);
+      return id;
+    },
+    work(handler, workOpts) {
+      const worker = startWorker(db, table, s, handler, workOpts.concurrency);
+      workers.add(worker);
+      return {
+        async close() {
+          workers.delete(worker);
+          await worker.close();
+        },
+      };
+    },
+    async counts() {
+      const c = table.counts(Date.now());
+      return { waiting: c.waiting, active: c.active, delayed: c.delayed, failed: c.retrying, dead: c.dead, completed: c.completed };
+    },
+    async ping() {
+      try {
+        return db.prepare('SELECT 1').pluck().get() === 1;
+      } catch {
+        return false;
+      }
+    },
+    async close() {
+      await Promise.all([...workers].map((w) => w.close()));
+      workers.clear();
+    },
+  };
+}
