@@ -6,6 +6,8 @@ export * as pose from './pose.ts';
 export * as dense from './dense.ts';
 export * as geodesy from './geodesy.ts';
 export { PoseInterpolator, poseAt, searchFloor } from './pose-interpolator.ts';
+export { umeyama, applySimilarity } from './umeyama.ts';
+export type { PointColumns, UmeyamaOptions, UmeyamaResult } from './umeyama.ts';
 export type { Vec3 } from './vec3.ts';
 export type { Mat3 } from './mat3.ts';
 export type { Quat } from './quat.ts';
