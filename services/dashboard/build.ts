@@ -1,0 +1,46 @@
+import { build } from 'esbuild';
+import { mkdir, rm, writeFile } from 'node:fs/promises';
+import { dirname, join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+
+/**
+ * Bundle the dashboard into dist/: index.html, assets/app.js (one ES module, minified, with a source map) and
+ * assets/app.css. Everything is local; the page loads nothing from elsewhere.
+ */
+export async function buildDashboard(outDir = join(dirname(fileURLToPath(import.meta.url)), 'dist')): Promise<string> {
+  const here = dirname(fileURLToPath(import.meta.url));
+  await rm(outDir, { recursive: true, force: true });
+  await mkdir(join(outDir, 'assets'), { recursive: true });
+  await build({
+    entryPoints: { app: join(here, 'src/main.ts'), 'app-style': join(here, 'src/styles.css') },
+    outdir: join(outDir, 'assets'),
+    entryNames: '[name]',
+    bundle: true,
+    format: 'esm',
+    platform: 'browser',
+    target: ['chrome110', 'firefox110', 'safari16'],
+    minify: true,
+    sourcemap: true,
+    legalComments: 'none',
+    logLevel: 'warning',
+  });
+  const html = `<!doctype html>
+<html lang="en">
+<head>
+<meta charset="utf-8">
+<meta name="viewport" content="width=device-width, initial-scale=1">
+<title>Plumbline</title>
+<link rel="stylesheet" href="/assets/app-style.css">
+<script type="module" src="/assets/app.js"></script>
+</head>
+<body></body>
+</html>
+`;
+  await writeFile(join(outDir, 'index.html'), html);
+  return outDir;
+}
+
+if (process.argv[1] && fileURLToPath(import.meta.url) === process.argv[1]) {
+  const out = await buildDashboard();
+  console.log(`dashboard built into ${out}`);
+}

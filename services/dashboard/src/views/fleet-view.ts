@@ -1,0 +1,47 @@
+import type { RobotSummary } from '@plumbline/contracts';
+import type { AppContext, View } from '../app-context.ts';
+import { h } from '../dom.ts';
+import { fmtTimestamp } from '../format.ts';
+import { severityBadge, sparkline, verdictBadge } from './badges.ts';
+
+function robotRow(r: RobotSummary, open: (hash: string) => void): HTMLTableRowElement {
+  const latest = r.latest_run;
+  const scores = r.recent_scores;
+  const trend = scores.length >= 2 ? scores[scores.length - 1]! - scores[0]! : null;
+  const trendText = trend === null ? '' : trend > 2 ? '↗ improving' : trend < -2 ? '↘ worsening' : '→ steady';
+  const tr = h(
+    'tr',
+    { 'data-robot': r.robot_id },
+    h('th', { scope: 'row' }, h('a', { href: `#/queue?reviewed=all&robot_id=${encodeURIComponent(r.robot_id)}` }, r.robot_id)),
+    h('td', {}, r.site ?? '—'),
+    h('td', { class: 'num' }, String(r.runs)),
+    h('td', {}, latest ? verdictBadge(latest.verdict) : '—'),
+    h('td', {}, latest ? severityBadge(latest.worst_severity) : '—'),
+    h('td', { class: 'num' }, latest?.score === null || latest?.score === undefined ? '—' : latest.score.toFixed(0)),
+    h('td', {}, latest ? h('a', { href: `#/runs/${encodeURIComponent(latest.id)}` }, fmtTimestamp(latest.started_at ?? latest.received_at)) : '—'),
+    h('td', { class: 'trend' }, sparkline(scores), h('span', { class: 'small muted' }, ` ${trendText}`)),
+  );
+  tr.addEventListener('dblclick', () => open(`#/queue?reviewed=all&robot_id=${encodeURIComponent(r.robot_id)}`));
+  return tr;
+}
+
+/** Fleet health: one row per robot with its latest run and a sparkline of recent scores (oldest → newest). */
+export async function renderFleet(ctx: AppContext): Promise<View> {
+  const robots = await ctx.api.robots();
+  robots.sort((a, b) => (a.latest_run?.score ?? 101) - (b.latest_run?.score ?? 101) || a.robot_id.localeCompare(b.robot_id));
+  const body = h('tbody', {}, ...robots.map((r) => robotRow(r, ctx.navigate)));
+  const el = h(
+    'section',
+    { class: 'fleet' },
+    h('div', { class: 'page-head' }, h('h1', {}, 'Fleet'), h('p', { class: 'muted' }, `${robots.length} robots · lowest latest score first · trend over recent runs, score axis 0–100`)),
+    robots.length
+      ? h(
+          'table',
+          { class: 'runs fleet-table' },
+          h('thead', {}, h('tr', {}, ...['Robot', 'Site', 'Runs', 'Latest verdict', 'Worst flag', 'Score', 'Latest run', 'Recent scores'].map((t) => h('th', { scope: 'col' }, t)))),
+          body,
+        )
+      : h('p', { class: 'empty' }, 'No robot has uploaded a run yet.'),
+  );
+  return { el };
+}
