@@ -49,7 +49,7 @@ function transpose(out: Mat3, a: Mat3): Mat3 {
 export function se3Edge(
   R: Float64Array, t: Float64Array, i: number, j: number,
   mR: Float64Array, mRo: number, mT: Float64Array, mTo: number,
-  r: Float64Array, Ji: Float64Array, Jj: Float64Array,
+  r: Float64Array, Ji: Float64Array, Jj: Float64Array, withJacobians = true,
 ): void {
   const { RiT, A, B, Jinv, d, u, phi, Ri, Rj } = scratch;
   for (let k = 0; k < 9; k++) {
@@ -73,6 +73,7 @@ export function se3Edge(
   r[3] = phi[0]!;
   r[4] = phi[1]!;
   r[5] = phi[2]!;
+  if (!withJacobians) return;
   so3.rightJacobianInverse(Jinv, phi);
   Ji.fill(0);
   Jj.fill(0);

@@ -57,14 +57,14 @@ const JiBuf = new Float64Array(MAX_DIM * MAX_DIM);
 const JjBuf = new Float64Array(MAX_DIM * MAX_DIM);
 
 /** Residual and Jacobians of edge e into the module scratch buffers. */
-function evalEdge(g: PoseGraph, e: number): void {
-  if (g.mode === 'se3') se3Edge(g.R, g.t, g.from[e]!, g.to[e]!, g.measR, e * 9, g.measT, e * 3, rBuf, JiBuf, JjBuf);
+function evalEdge(g: PoseGraph, e: number, withJacobians: boolean): void {
+  if (g.mode === 'se3') se3Edge(g.R, g.t, g.from[e]!, g.to[e]!, g.measR, e * 9, g.measT, e * 3, rBuf, JiBuf, JjBuf, withJacobians);
   else planarEdge(g.s, g.from[e]!, g.to[e]!, g.measP, e * 3, rBuf, JiBuf, JjBuf);
 }
 
 /** χ² of edge e at the current state: rᵀ·W·r with the edge's isotropic information (no robust kernel). */
-export function edgeChi2(g: PoseGraph, e: number): number {
-  evalEdge(g, e);
+export function edgeChi2(g: PoseGraph, e: number, withJacobians = false): number {
+  evalEdge(g, e, withJacobians);
   const nt = g.mode === 'se3' ? 3 : 2, d = graphDim(g);
   let ct = 0, cr = 0;
   for (let a = 0; a < nt; a++) ct += rBuf[a]! ** 2;
@@ -96,6 +96,8 @@ export interface OptimizeResult {
   ok: boolean;
   reason: string | null;
   iterations: number;
+  /** Linear solves performed (rejected damping attempts included). */
+  solves: number;
   initialCost: number;
   finalCost: number;
 }
@@ -140,7 +142,7 @@ function assemble(g: PoseGraph, sv: PoseGraphSolver, diag: Float64Array, off: Fl
   const wv = new Float64Array(d);
   for (let e = 0; e < g.m; e++) {
     if (!g.active[e]) continue;
-    const chi2 = edgeChi2(g, e); // also leaves r, Ji, Jj in the scratch buffers
+    const chi2 = edgeChi2(g, e, true); // also leaves r, Ji, Jj in the scratch buffers
     const w = robustWeight(chi2, g.huber[e]!);
     for (let a = 0; a < d; a++) wv[a] = w * (a < nt ? g.infoT[e]! : g.infoR[e]!);
     const i = g.from[e]!, j = g.to[e]!, p = sv.pairOf[e]!, fl = sv.flipped[e]!;
@@ -200,43 +202,54 @@ function applyStep(g: PoseGraph, delta: Float64Array): void {
 export function optimizePoseGraph(
   g: PoseGraph, solver: PoseGraphSolver, opts: { maxIterations?: number; anchor?: number; tolerance?: number } = {},
 ): OptimizeResult {
-  const maxIt = opts.maxIterations ?? 30, anchor = opts.anchor ?? 0, tol = opts.tolerance ?? 1e-9;
+  const maxIt = opts.maxIterations ?? 30, anchor = opts.anchor ?? 0, tol = opts.tolerance ?? 1e-6;
   const d = graphDim(g), dd = d * d, N = g.n * d;
   const diag = new Float64Array(g.n * dd), off = new Float64Array((solver.pairs.length / 2) * dd);
   const grad = new Float64Array(N), shift = new Float64Array(N), delta = new Float64Array(N);
   const backup = { R: new Float64Array(g.R.length), t: new Float64Array(g.t.length), s: new Float64Array(g.s.length) };
   let cost = totalCost(g);
   const initialCost = cost;
-  let lambda = 1e-4, it = 0;
+  let lambda = 1e-4, nu = 2, it = 0, solves = 0;
   for (; it < maxIt; it++) {
     assemble(g, solver, diag, off, grad);
     for (let r = 0; r < d; r++) diag[anchor * dd + r * d + r]! += 1e12;
     let improved = false;
-    for (let attempt = 0; attempt < 10 && !improved; attempt++) {
+    for (let attempt = 0; attempt < 12 && !improved; attempt++) {
       for (let k = 0; k < N; k++) shift[k] = lambda * Math.max(diag[Math.floor(k / d) * dd + (k % d) * (d + 1)]!, 1e-9);
       const f = solver.chol.factorize(diag, off, shift);
-      if (!f.ok) return { ok: false, reason: f.reason, iterations: it, initialCost, finalCost: cost };
+      if (!f.ok) return { ok: false, reason: f.reason, iterations: it, solves, initialCost, finalCost: cost };
       solver.chol.solve(delta, grad);
-      for (let k = 0; k < N; k++) delta[k] = -delta[k]!;
+      solves++;
+      // Predicted decrease of the quadratic model for δ = −(H + λD)⁻¹g: ½·δᵀ(λDδ − g), with δ = −solution.
+      let predicted = 0;
+      for (let k = 0; k < N; k++) {
+        delta[k] = -delta[k]!;
+        predicted += delta[k]! * (shift[k]! * delta[k]! - grad[k]!);
+      }
       backup.R.set(g.R);
       backup.t.set(g.t);
       backup.s.set(g.s);
       applyStep(g, delta);
       const next = totalCost(g);
+      // Gain ratio ρ: actual over predicted decrease of Σχ² (the model decrease of Σ rᵀWr is δᵀ(λDδ − g)).
+      const rho = (cost - next) / Math.max(predicted, 1e-300);
       if (next <= cost) {
         improved = true;
         const rel = (cost - next) / Math.max(cost, 1e-300);
         cost = next;
-        lambda = Math.max(lambda / 10, 1e-12);
-        if (rel < tol) return { ok: true, reason: null, iterations: it + 1, initialCost, finalCost: cost };
+        // Damping update of H. B. Nielsen, "Damping parameter in Marquardt's method", IMM-REP-1999-05.
+        lambda = Math.max(lambda * Math.max(1 / 3, 1 - (2 * rho - 1) ** 3), 1e-12);
+        nu = 2;
+        if (rel < tol) return { ok: true, reason: null, iterations: it + 1, solves, initialCost, finalCost: cost };
       } else {
         g.R.set(backup.R);
         g.t.set(backup.t);
         g.s.set(backup.s);
-        lambda *= 10;
+        lambda *= nu;
+        nu *= 2;
       }
     }
     if (!improved) break; // no downhill step at any damping: at a minimum to working precision
   }
-  return { ok: true, reason: null, iterations: it, initialCost, finalCost: cost };
+  return { ok: true, reason: null, iterations: it, solves, initialCost, finalCost: cost };
 }
