@@ -12,14 +12,15 @@ function cols(pts: number[][]): PointColumns {
     z: pts[0]!.length > 2 ? Float64Array.from(pts, (p) => p[2]!) : null,
   };
 }
-function randomCloud(rng: () => number, n: number, spread = 10): PointColumns {
+function randomCloud(rng: () => number, n: number, spread = 10): Cloud {
   return {
     x: Float64Array.from({ length: n }, () => spread * gaussian(rng)),
     y: Float64Array.from({ length: n }, () => spread * gaussian(rng)),
     z: Float64Array.from({ length: n }, () => spread * gaussian(rng)),
   };
 }
-function transformed(src: PointColumns, r: Float64Array, t: number[], c: number): PointColumns {
+type Cloud = { x: Float64Array; y: Float64Array; z: Float64Array };
+function transformed(src: PointColumns, r: Float64Array, t: number[], c: number): Cloud {
   const n = src.x.length;
   const out = { x: new Float64Array(n), y: new Float64Array(n), z: new Float64Array(n) };
   applySimilarity(out, src, r, Float64Array.from(t), c);
@@ -61,7 +62,7 @@ describe('umeyama: exact recovery of random similarities (3-D)', () => {
   it('returns a proper rotation (det +1) when the best orthogonal map is a reflection', () => {
     const rng = createRng(52);
     const src = randomCloud(rng, 30);
-    const mirrored = { x: src.x, y: src.y, z: Float64Array.from(src.z!, (v) => -v) };
+    const mirrored = { x: src.x, y: src.y, z: Float64Array.from(src.z, (v) => -v) };
     const res = umeyama(src, mirrored);
     if (!res.ok) throw new Error(res.reason);
     expectClose(mat3.determinant(res.r), 1, 1e-12, 'det R');
@@ -129,10 +130,10 @@ describe('umeyama: options', () => {
     const src = randomCloud(rng, 12);
     const dst = randomCloud(rng, 12);
     const w = Float64Array.from({ length: 12 }, (_, i) => (i < 4 ? 2 : 1));
-    const dup = (p: PointColumns): PointColumns => ({
+    const dup = (p: Cloud): Cloud => ({
       x: Float64Array.from([...p.x, ...p.x.subarray(0, 4)]),
       y: Float64Array.from([...p.y, ...p.y.subarray(0, 4)]),
-      z: Float64Array.from([...p.z!, ...p.z!.subarray(0, 4)]),
+      z: Float64Array.from([...p.z, ...p.z.subarray(0, 4)]),
     });
     const a = umeyama(src, dst, { weights: w });
     const b = umeyama(dup(src), dup(dst));
