@@ -1,0 +1,4 @@
+export { buildApp, type AppDeps, type Clock, type InspectBundle, type TrajectoryCsv } from './app.ts';
+export { createLogger } from './logger.ts';
+export { requestAnalysis } from './ingest.ts';
+export { createServiceMetrics, type ServiceMetrics } from './metrics.ts';

@@ -1,0 +1,75 @@
+import type { Logger } from 'pino';
+import type { Config } from '@plumbline/config';
+import type { BlobStore, Store } from '@plumbline/store';
+import type { JobQueue, QueueWorker } from '@plumbline/queue';
+import { createAnalyseRunProcessor, type AnalyseRunDeps, type Analyze } from './processors/analyse-run.ts';
+import { startWebhookDispatcher, type WebhookDispatcher } from './webhooks/dispatcher.ts';
+import { createPolicyResolver } from './policy.ts';
+
+export interface WorkerDeps {
+  store: Store;
+  blobs: BlobStore;
+  queue: JobQueue;
+  logger: Logger;
+  clock: { now(): Date };
+  analyze: Analyze;
+  /** Must match the queue's retry setting (default 5). */
+  maxAttempts?: number;
+  onJobFinished?: AnalyseRunDeps['onJobFinished'];
+  fetch?: typeof fetch;
+  dispatcherIntervalMs?: number;
+}
+
+export interface RunningWorker {
+  dispatcher: WebhookDispatcher;
+  /** Re-enqueues runs left queued/analysing (after a restart); the queue dedups by job key. */
+  recover(): Promise<number>;
+  close(): Promise<void>;
+}
+
+/**
+ * Starts analysis workers on the queue and the webhook dispatcher. Used by the standalone worker (Redis mode) and,
+ * in embedded mode, inside the API process (`startEmbeddedWorker`).
+ */
+export async function startWorker(config: Pick<Config, 'workerConcurrency' | 'policyFile'>, deps: WorkerDeps): Promise<RunningWorker> {
+  const policyFor = createPolicyResolver(config.policyFile);
+  const processor = createAnalyseRunProcessor({
+    store: deps.store,
+    blobs: deps.blobs,
+    analyze: deps.analyze,
+    policyFor,
+    logger: deps.logger.child({ component: 'worker' }),
+    clock: deps.clock,
+    maxAttempts: deps.maxAttempts ?? 5,
+    ...(deps.onJobFinished ? { onJobFinished: deps.onJobFinished } : {}),
+  });
+  const recover = async (): Promise<number> => {
+    let n = 0;
+    for (const t of deps.store.runs.pendingTickets()) {
+      await deps.queue.enqueue({ run: t.run, sha256: t.sha256, attempt_tag: t.job_key, ...(t.policy ? { policy: t.policy } : {}) }, { jobId: t.job_key });
+      n++;
+    }
+    return n;
+  };
+  const recovered = await recover();
+  if (recovered > 0) deps.logger.info({ recovered }, 're-enqueued pending runs');
+  const qw: QueueWorker = deps.queue.work(processor, { concurrency: config.workerConcurrency });
+  const dispatcher = startWebhookDispatcher({
+    webhooks: deps.store.webhooks,
+    logger: deps.logger.child({ component: 'webhooks' }),
+    clock: deps.clock,
+    ...(deps.fetch ? { fetch: deps.fetch } : {}),
+    ...(deps.dispatcherIntervalMs ? { intervalMs: deps.dispatcherIntervalMs } : {}),
+  });
+  return {
+    dispatcher,
+    recover,
+    async close() {
+      await qw.close();
+      await dispatcher.stop();
+    },
+  };
+}
+
+/** Embedded mode: the worker runs in the API process against the same database and embedded queue. */
+export const startEmbeddedWorker = startWorker;
