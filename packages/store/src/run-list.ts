@@ -52,11 +52,13 @@ export function runFilter(q: FilterQuery): SqlPart {
   eq('verdict', q.verdict);
   eq('status', q.status);
   if (q.flag_kind !== undefined) {
-    where.push('EXISTS (SELECT 1 FROM flags WHERE flags.kind = ? AND flags.run = runs.id)');
+    // IN (subquery) lets SQLite either drive from the flags index or probe a one-off set while walking a sort index
+    where.push('runs.id IN (SELECT flags.run FROM flags WHERE flags.kind = ?)');
     params.push(q.flag_kind);
   }
-  if (q.reviewed === 'true') where.push('runs.reviewed_at IS NOT NULL');
-  if (q.reviewed === 'false') where.push('runs.reviewed_at IS NULL');
+  // decision and reviewed_at are set together; decision is the indexed one
+  if (q.reviewed === 'true') where.push('runs.decision IS NOT NULL');
+  if (q.reviewed === 'false') where.push('runs.decision IS NULL');
   if (q.score_min !== undefined) {
     where.push('runs.score >= ?');
     params.push(q.score_min);
@@ -115,4 +117,23 @@ export function decodeCursor(sort: RunSort, cursor: string): unknown[] {
     throw new InvalidCursorError('malformed position');
   }
   return k;
+}
+
+/** The page query of a list request: rows plus their sort keys `k0..kn`, one row more than the limit. */
+export function buildListSql(query: RunListQuery, columns: string): SqlPart & { keyCount: number } {
+  const filter = runFilter(query);
+  const keys = sortKeyExprs(query.sort);
+  const where = [filter.sql];
+  const params = [...filter.params];
+  if (query.cursor !== undefined) {
+    const after = afterCursor(query.sort, decodeCursor(query.sort, query.cursor));
+    where.push(after.sql);
+    params.push(...after.params);
+  }
+  const keySelect = keys.map((e, i) => `${e} AS k${i}`).join(', ');
+  return {
+    sql: `SELECT ${columns}, ${keySelect} FROM runs WHERE ${where.join(' AND ')} ORDER BY ${runOrder(query.sort)} LIMIT ?`,
+    params: [...params, query.limit + 1],
+    keyCount: keys.length,
+  };
 }

@@ -2,7 +2,7 @@ import { randomUUID } from 'node:crypto';
 import type { RunListPage, RunListQuery, RunStatus, RunSummary } from '@plumbline/contracts';
 import { RunConflictError } from './errors.ts';
 import { RUN_COLUMNS, isoNow, toRunSummary, type RunRow } from './rows.ts';
-import { afterCursor, decodeCursor, encodeCursor, runFilter, runOrder, sortKeyExprs } from './run-list.ts';
+import { buildListSql, encodeCursor, runFilter } from './run-list.ts';
 import type { AnalysisTicket, Db, RunCreate, RunCreateResult, RunRepository } from './types.ts';
 
 function ticketOf(row: Pick<RunRow, 'id' | 'sha256' | 'job_key' | 'generation' | 'policy'>): AnalysisTicket | null {
@@ -74,25 +74,20 @@ export function createRunRepository(db: Db): RunRepository {
   });
 
   const list = (query: RunListQuery): RunListPage => {
-    const filter = runFilter(query);
-    const keys = sortKeyExprs(query.sort);
-    const where = [filter.sql];
-    const params = [...filter.params];
-    if (query.cursor !== undefined) {
-      const after = afterCursor(query.sort, decodeCursor(query.sort, query.cursor));
-      where.push(after.sql);
-      params.push(...after.params);
-    }
-    const keySelect = keys.map((e, i) => `${e} AS k${i}`).join(', ');
-    const rows = db
-      .prepare(`SELECT ${RUN_COLUMNS}, ${keySelect} FROM runs WHERE ${where.join(' AND ')} ORDER BY ${runOrder(query.sort)} LIMIT ?`)
-      .all(...params, query.limit + 1) as (RunRow & Record<string, unknown>)[];
+    const page = buildListSql(query, RUN_COLUMNS);
+    const rows = db.prepare(page.sql).all(...page.params) as (RunRow & Record<string, unknown>)[];
     const more = rows.length > query.limit;
-    const page = more ? rows.slice(0, query.limit) : rows;
-    const last = page.at(-1);
-    const next = more && last ? encodeCursor(query.sort, keys.map((_, i) => last[`k${i}`])) : null;
-    const total = db.prepare(`SELECT count(*) FROM runs WHERE ${filter.sql}`).pluck().get(...filter.params) as number;
-    return { items: page.map(toRunSummary), next_cursor: next, total };
+    const items = more ? rows.slice(0, query.limit) : rows;
+    const last = items.at(-1);
+    const keys = Array.from({ length: page.keyCount }, (_, i) => last?.[`k${i}`]);
+    const next = more && last ? encodeCursor(query.sort, keys) : null;
+    // the total is counted for the first page only; following pages (cursor set) return null to stay O(page)
+    let total: number | null = null;
+    if (query.cursor === undefined) {
+      const filter = runFilter(query);
+      total = db.prepare(`SELECT count(*) FROM runs WHERE ${filter.sql}`).pluck().get(...filter.params) as number;
+    }
+    return { items: items.map(toRunSummary), next_cursor: next, total };
   };
 
   return {

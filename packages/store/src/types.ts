@@ -82,7 +82,8 @@ export interface RunRepository {
   findByKey(robotId: string, runId: string): RunSummary | null;
   /** Parsed manifest stored with the run, or null. */
   manifest(id: string): unknown;
-  /** Filtered, sorted, keyset-paginated list. Throws InvalidCursorError on a cursor it did not issue. */
+  /** Filtered, sorted, keyset-paginated list. `total` is counted on the first page only (null when a cursor is
+   *  given). Throws InvalidCursorError on a cursor it did not issue. */
   list(query: RunListQuery): RunListPage;
   /** Ids of all runs matching the filter part of a query (sort/limit/cursor ignored), for bulk re-analysis. */
   idsMatching(query: Partial<RunListQuery>, max?: number): string[];

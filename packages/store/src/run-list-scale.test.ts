@@ -1,0 +1,89 @@
+import { RunListQuery, type RunSort } from '@plumbline/contracts';
+import { beforeAll, describe, expect, it } from 'vitest';
+import { openDatabase } from './database.ts';
+import { buildListSql } from './run-list.ts';
+import { createStore } from './store.ts';
+import type { Db, Store } from './types.ts';
+
+/**
+ * The run list on 100,000 runs: each sort and the common filters must be answered by walking an index (no
+ * temporary B-tree for ORDER BY) and a page, first or deep behind a cursor, must come back quickly.
+ * The 150 ms bound is loose on purpose (a shared 2-core CI machine); on a quiet machine pages take ~1-10 ms.
+ */
+const N = 100_000;
+const ROBOTS = ['kestrel-01', 'kestrel-02', 'kestrel-03', 'plover-01', 'plover-02', 'heron-01', 'wren-01', 'tern-01'];
+const VERDICTS = ['sound', 'doubtful', 'unfit'];
+const KINDS = ['scale-drift', 'time-offset', 'loop-drift', 'imu-gap'];
+
+let db: Db;
+let store: Store;
+
+beforeAll(() => {
+  db = openDatabase(':memory:');
+  store = createStore(db);
+  const robot = db.prepare('INSERT INTO robots (robot_id, site, created_at) VALUES (?, ?, ?)');
+  const run = db.prepare(
+    `INSERT INTO runs (id, robot_id, run_id, site, started_at, received_at, status, sha256, size_bytes, score, verdict, worst_severity, priority)
+     VALUES (?, ?, ?, ?, ?, ?, 'done', ?, 1000, ?, ?, ?, ?)`,
+  );
+  const flag = db.prepare(`INSERT INTO flags (run, report_id, flag_id, kind, severity, t_start, t_end, value) VALUES (?, 0, ?, ?, 'warn', 0, 1, NULL)`);
+  db.pragma('foreign_keys = OFF'); // flags point at report 0, which this bulk fixture does not create
+  db.transaction(() => {
+    for (const [i, r] of ROBOTS.entries()) robot.run(r, i % 2 ? 'northgate-yard' : 'harbourside-depot', '2026-01-01T00:00:00.000Z');
+    const t0 = Date.UTC(2025, 0, 1);
+    for (let n = 0; n < N; n++) {
+      const id = `r${n.toString(36).padStart(6, '0')}`;
+      const when = new Date(t0 + n * 300_000).toISOString();
+      const v = VERDICTS[n % 3]!;
+      run.run(id, ROBOTS[n % 8], `shift-${n}`, n % 2 ? 'northgate-yard' : 'harbourside-depot', when, when, n.toString(16).padStart(64, '0'),
+        (n * 37) % 101, v, v === 'sound' ? null : v === 'doubtful' ? 'warn' : 'critical', n % 4);
+      if (n % 10 === 0) flag.run(id, 'f-1', KINDS[(n / 10) % 4]);
+    }
+  })();
+  db.pragma('foreign_keys = ON');
+  db.exec('ANALYZE');
+}, 60_000);
+
+const queries: [string, Record<string, unknown>, boolean][] = [
+  // [name, query, must avoid a temp B-tree]
+  ['newest first', { sort: '-received_at' }, true],
+  ['oldest first', { sort: 'received_at' }, true],
+  ['started_at', { sort: '-started_at' }, true],
+  ['score ascending', { sort: 'score' }, true],
+  ['score descending', { sort: '-score' }, true],
+  ['priority', { sort: 'priority' }, true],
+  ['robot', { robot_id: 'heron-01' }, true],
+  ['site', { site: 'northgate-yard', sort: 'received_at' }, true],
+  ['verdict', { verdict: 'unfit' }, true],
+  ['status', { status: 'done' }, true],
+  ['unreviewed', { reviewed: 'false' }, true],
+  ['flag kind', { flag_kind: 'time-offset' }, false],
+  ['robot + verdict by score', { robot_id: 'wren-01', verdict: 'doubtful', sort: '-score' }, false],
+];
+
+describe(`run list on ${N.toLocaleString('en')} runs`, () => {
+  for (const [name, q, indexOrdered] of queries) {
+    it(name, () => {
+      const first = RunListQuery.parse({ ...q, limit: 50 });
+      if (indexOrdered) {
+        const plan = (db.prepare(`EXPLAIN QUERY PLAN ${buildListSql(first, 'runs.id').sql}`).all(...buildListSql(first, 'runs.id').params) as { detail: string }[])
+          .map((r) => r.detail)
+          .join('; ');
+        expect(plan).not.toMatch(/TEMP B-TREE/);
+      }
+      let t = performance.now();
+      const page1 = store.runs.list(first);
+      const firstMs = performance.now() - t;
+      expect(page1.items).toHaveLength(50);
+      // walk 20 pages deep, then time one more
+      let cursor = page1.next_cursor!;
+      for (let i = 0; i < 20; i++) cursor = store.runs.list(RunListQuery.parse({ ...q, limit: 50, cursor })).next_cursor!;
+      t = performance.now();
+      const deep = store.runs.list(RunListQuery.parse({ ...q, limit: 50, cursor }));
+      const deepMs = performance.now() - t;
+      expect(deep.items).toHaveLength(50);
+      expect(firstMs).toBeLessThan(150);
+      expect(deepMs).toBeLessThan(150);
+    });
+  }
+});
