@@ -108,7 +108,7 @@ export class CsvColumnParser {
       throw new BundleError('CSV_NO_DATA', 'header but no data rows', { file: this.file, line: stats.lines, column: 1 });
     }
     const present = this.spec.columns.map((_, k) => this.targetField[k] !== -1);
-    const columns = this.stores.map((s, k) => (present[k] ? s.subarray(0, this.n) : new Float64Array(this.n).fill(Number.NaN)));
+    const columns = this.stores.map((s) => s.subarray(0, this.n));
     return { n: this.n, columns, present, stats };
   }
 
@@ -166,6 +166,8 @@ export class CsvColumnParser {
         { file: this.file, line: lineNo, column: firstUnknown >= 0 ? firstUnknown + 1 : names.length + 1 },
       );
     }
+    // absent optional columns read as NaN, also inside validateRow
+    this.targetField.forEach((field, k) => field === -1 && this.stores[k]!.fill(Number.NaN));
     this.headerNames = names;
     this.headerSeen = true;
   }
@@ -227,9 +229,10 @@ export class CsvColumnParser {
 
   private grow(): void {
     this.capacity *= 2;
-    this.stores = this.stores.map((s) => {
+    this.stores = this.stores.map((s, k) => {
       const g = new Float64Array(this.capacity);
       g.set(s);
+      if (this.targetField[k] === -1) g.fill(Number.NaN, s.length);
       return g;
     });
   }

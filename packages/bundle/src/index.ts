@@ -6,3 +6,6 @@ export * from './csv-tables.ts';
 export * from './nmea-reader.ts';
 export * from './archive.ts';
 export { safeEntryName, type ArchiveLimits } from './archive-extractor.ts';
+export * from './manifest.ts';
+export * from './read-bundle.ts';
+export { locateJsonPath, locateJsonSyntaxError, type TextPosition } from './json-locate.ts';
