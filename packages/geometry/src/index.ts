@@ -5,6 +5,7 @@ export * as so3 from './so3.ts';
 export * as pose from './pose.ts';
 export * as dense from './dense.ts';
 export * as geodesy from './geodesy.ts';
+export * as stats from './stats.ts';
 export { PoseInterpolator, poseAt, searchFloor } from './pose-interpolator.ts';
 export { umeyama, applySimilarity } from './umeyama.ts';
 export type { PointColumns, UmeyamaOptions, UmeyamaResult } from './umeyama.ts';
