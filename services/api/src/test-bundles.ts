@@ -20,7 +20,7 @@ export function testManifest(over: Record<string, unknown> = {}): Record<string,
 export async function tarGz(files: Record<string, string>): Promise<Buffer> {
   const p = pack();
   const chunks: Buffer[] = [];
-  p.on('data', (c: Buffer) => chunks.push(c));
+  p.on('data', (c: unknown) => void chunks.push(c as Buffer));
   const done = new Promise<void>((resolve, reject) => {
     p.on('end', resolve);
     p.on('error', reject);
