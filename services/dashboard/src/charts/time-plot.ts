@@ -102,7 +102,11 @@ export function createTimePlot(opts: TimePlotOptions): HTMLElement {
     }
     ctx.textAlign = 'center';
     ctx.textBaseline = 'top';
-    for (const tick of timeTicks(opts.durationS, 8)) ctx.fillText(fmtDuration(tick), xOf(tick), h - PAD.bottom + 3);
+    for (const tick of timeTicks(opts.durationS, 8)) {
+      const x = xOf(tick);
+      ctx.textAlign = x > w - PAD.right - 20 ? 'right' : 'center';
+      ctx.fillText(fmtDuration(tick), Math.min(x, w - 2), h - PAD.bottom + 3);
+    }
   }
 
   function drawSigma(ctx: CanvasRenderingContext2D): void {

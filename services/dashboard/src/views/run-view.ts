@@ -81,18 +81,11 @@ export async function renderRun(ctx: AppContext, id: string): Promise<View> {
 
   const cursor = createTimeCursor();
   const flags = renderFlagList(report.flags, draft, cursor);
-  const el = h(
-    'section',
-    { class: 'run' },
-    nav,
-    header(detail),
-    h(
-      'div',
-      { class: 'run-grid' },
-      h('div', { class: 'run-main' }, h('section', { class: 'card map-card' }, h('h2', {}, 'Map (top-down, odometry frame)'), createMapView(report, cursor), legend(report)), h('section', { class: 'card' }, h('h2', {}, 'Signals over run time'), h('p', { class: 'muted small' }, 'Hover or click a plot or the map to follow one moment everywhere; hatched = flagged interval.'), renderPlots(report, cursor))),
-      h('aside', { class: 'run-side' }, caution, h('section', { class: 'card' }, h('h2', {}, `Flags (${report.flags.length})`), flags.el), panel.el, renderEstimates(report)),
-    ),
-  );
+  const mapHeight = Math.round(Math.min(460, Math.max(300, window.innerHeight * 0.42)));
+  const mapCard = h('section', { class: 'card map-card' }, h('h2', {}, 'Map ', h('span', { class: 'muted small' }, '(top-down, odometry frame · drag to pan, wheel to zoom, double-click to fit)')), createMapView(report, cursor, mapHeight), legend(report));
+  const plotCard = h('section', { class: 'card' }, h('h2', {}, 'Signals over run time ', h('span', { class: 'muted small' }, '(hover or click to follow one moment on the map and every plot; hatched = flagged)')), renderPlots(report, cursor));
+  const side = h('aside', { class: 'run-side' }, caution, h('section', { class: 'card' }, h('h2', {}, `Flags (${report.flags.length})`), flags.el), panel.el, renderEstimates(report));
+  const el = h('section', { class: 'run' }, nav, header(detail), h('div', { class: 'run-grid' }, h('div', { class: 'run-main' }, mapCard, plotCard), side));
   return { el, onKey: (ev) => runKeys(ev, { step, panel, flags, back: () => ctx.navigate(ctx.queueHash) }) };
 }
 
