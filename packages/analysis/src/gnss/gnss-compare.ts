@@ -1,0 +1,182 @@
+import type { GnssColumns, OdometryColumns } from '@plumbline/bundle';
+import type { PolicyThresholds, RunManifest } from '@plumbline/contracts';
+import { geodesy, pose, PoseInterpolator, quat, type UmeyamaOptions } from '@plumbline/geometry';
+import type { InertialFinding } from '../estimators/types.ts';
+import { gateFixes, type FixGating } from './fix-gating.ts';
+import { robustAlign, type Alignment } from './robust-align.ts';
+
+/** Good fixes with the odometry antenna track at the same instants. Times epoch seconds, positions metres. */
+export interface FixTrack {
+  t: Float64Array;
+  /** ENU of the fix at the origin (first good fix). */
+  e: Float64Array;
+  n: Float64Array;
+  u: Float64Array;
+  /** Antenna position from odometry, odometry world frame. */
+  ox: Float64Array;
+  oy: Float64Array;
+  oz: Float64Array;
+}
+
+export interface GnssComparison {
+  ok: true;
+  origin: { latDeg: number; lonDeg: number; hM: number };
+  gating: FixGating;
+  /** ENU of every fix (NaN where coordinates are absent), for plots. */
+  allE: Float64Array;
+  allN: Float64Array;
+  allU: Float64Array;
+  track: FixTrack;
+  /** Whole-run robust alignment odometry world → ENU. */
+  global: Alignment;
+  /** Per good fix: horizontal and vertical residual after the local (windowed) alignment, metres. */
+  errH: Float64Array;
+  errV: Float64Array;
+  /** Horizontal RMS residual after the whole-run alignment, metres. */
+  rmseH: number;
+  /** Heading of each window's alignment relative to the whole-run one: drift of odometry heading, degrees. */
+  windowT: Float64Array;
+  windowHeadingDeg: Float64Array;
+  findings: InertialFinding[];
+}
+
+export type GnssResult = GnssComparison | { ok: false; reason: string; gating: FixGating | null };
+
+/** Antenna phase centre in the odometry body frame: imu_T_odom⁻¹ applied to the antenna position in the IMU frame. */
+function antennaInOdomBody(m: RunManifest): Float64Array {
+  const a = m.gnss?.antenna_in_imu ?? [0, 0, 0];
+  const { translation: t, rotation_wxyz: q } = m.extrinsics.imu_T_odom;
+  const imuTOdom = pose.fromValues(pose.create(), q[0], q[1], q[2], q[3], t[0], t[1], t[2]);
+  const odomTImu = pose.invert(pose.create(), imuTOdom);
+  return pose.transformPoint(new Float64Array(3), odomTImu, Float64Array.of(a[0], a[1], a[2]));
+}
+
+/** Builds the fix track: good fixes inside the odometry span, ENU at the first good fix, and odometry antenna positions. */
+export function buildFixTrack(
+  gnss: GnssColumns, good: Uint8Array, odometry: OdometryColumns, antennaBody: Float64Array,
+): { origin: GnssComparison['origin']; track: FixTrack; allE: Float64Array; allN: Float64Array; allU: Float64Array } | null {
+  let first = -1;
+  for (let i = 0; i < gnss.n; i++) if (good[i]) { first = i; break; }
+  if (first < 0) return null;
+  const origin = { latDeg: gnss.lat[first]!, lonDeg: gnss.lon[first]!, hM: gnss.alt[first]! };
+  const enuOrigin = geodesy.createEnuOrigin(origin.latDeg, origin.lonDeg, origin.hM);
+  const allE = new Float64Array(gnss.n), allN = new Float64Array(gnss.n), allU = new Float64Array(gnss.n);
+  geodesy.geodeticToEnu(allE, allN, allU, gnss.lat, gnss.lon, gnss.alt, enuOrigin);
+  const interp = new PoseInterpolator(odometry);
+  const p = pose.create(), w = new Float64Array(3);
+  const idx: number[] = [];
+  const ant: number[] = [];
+  for (let i = 0; i < gnss.n; i++) {
+    if (!good[i] || !interp.at(p, gnss.t[i]!)) continue;
+    quat.rotateVec3(w, p.q, antennaBody);
+    idx.push(i);
+    ant.push(p.t[0]! + w[0]!, p.t[1]! + w[1]!, p.t[2]! + w[2]!);
+  }
+  const k = idx.length;
+  const track: FixTrack = {
+    t: new Float64Array(k), e: new Float64Array(k), n: new Float64Array(k), u: new Float64Array(k),
+    ox: new Float64Array(k), oy: new Float64Array(k), oz: new Float64Array(k),
+  };
+  for (let j = 0; j < k; j++) {
+    const i = idx[j]!;
+    track.t[j] = gnss.t[i]!;
+    track.e[j] = allE[i]!;
+    track.n[j] = allN[i]!;
+    track.u[j] = allU[i]!;
+    track.ox[j] = ant[3 * j]!;
+    track.oy[j] = ant[3 * j + 1]!;
+    track.oz[j] = ant[3 * j + 2]!;
+  }
+  return { origin, track, allE, allN, allU };
+}
+
+/**
+ * Compares odometry with GNSS: gates fixes, converts them to ENU at the first good fix (WGS-84, geometry geodesy),
+ * moves the odometry to the antenna (lever arm from the manifest rotated by the body attitude), aligns odometry to
+ * ENU robustly (Umeyama 1991 in IRLS with a Huber kernel; yaw-only for gravity-aligned odometry, scale free only
+ * for monocular odometry) over the whole run and over sliding windows, and reports `gnss-divergence` findings
+ * where the windowed residual stays at or above the policy warning level. Units metres, times epoch seconds.
+ */
+export function compareWithGnss(
+  manifest: RunManifest, odometry: OdometryColumns, gnss: GnssColumns, th: PolicyThresholds,
+): GnssResult {
+  if (odometry.n < 2) return { ok: false, reason: 'insufficient: fewer than two odometry poses', gating: null };
+  const gating = gateFixes(
+    gnss,
+    { minFixQuality: th.gnss_min_fix_quality, maxHaccM: th.gnss_max_hacc_m, maxHdop: th.gnss_max_hdop, outageS: th.gnss_outage_s },
+    odometry.t[0]!, odometry.t[odometry.n - 1]!,
+  );
+  const built = buildFixTrack(gnss, gating.good, odometry, antennaInOdomBody(manifest));
+  if (!built || built.track.t.length < 10) return { ok: false, reason: 'insufficient: fewer than 10 good fixes during the run', gating };
+  const { track } = built;
+  const opts: UmeyamaOptions = { yawOnly: manifest.odometry.world_gravity_aligned, fixScale: !manifest.odometry.monocular };
+  const global = robustAlign(track, 0, track.t.length, opts, 1);
+  if (!global) return { ok: false, reason: 'unobservable: GNSS track too short or straight to align odometry', gating };
+  const k = track.t.length;
+  let ss = 0;
+  for (let j = 0; j < k; j++) ss += global.resH[j]! ** 2;
+  const rmseH = Math.sqrt(ss / k);
+  const local = windowedResiduals(track, opts, global.scale, Math.max(120, 12 * th.window_s));
+  const findings = divergenceFindings(track.t, local.errH, th['gnss-divergence'].warn ?? Number.POSITIVE_INFINITY);
+  return { ok: true, origin: built.origin, gating, allE: built.allE, allN: built.allN, allU: built.allU, track, global, errH: local.errH, errV: local.errV, rmseH, windowT: local.windowT, windowHeadingDeg: local.headingDeg, findings };
+}
+
+/**
+ * Sliding-window alignment (window `winS` s, step winS/4, scale fixed to the whole-run scale): every fix takes
+ * the residual of the window whose centre is nearest, so slow odometry drift is absorbed and local disagreement
+ * stands out.
+ */
+function windowedResiduals(track: FixTrack, opts: UmeyamaOptions, scale: number, winS: number) {
+  const k = track.t.length, t0 = track.t[0]!, t1 = track.t[k - 1]!;
+  const errH = new Float64Array(k).fill(Number.NaN), errV = new Float64Array(k).fill(Number.NaN);
+  const bestDist = new Float64Array(k).fill(Number.POSITIVE_INFINITY);
+  const scaled: FixTrack = { ...track, ox: track.ox.map((v) => v * scale), oy: track.oy.map((v) => v * scale), oz: track.oz.map((v) => v * scale) };
+  const step = winS / 4, windowT: number[] = [], headingDeg: number[] = [];
+  let lo = 0;
+  for (let ws = t0; ws <= Math.max(t0, t1 - winS) + 1e-9; ws += step) {
+    while (lo < k && track.t[lo]! < ws) lo++;
+    let hi = lo;
+    while (hi < k && track.t[hi]! < ws + winS) hi++;
+    if (hi - lo < 10) continue;
+    const a = robustAlign(scaled, lo, hi, { ...opts, fixScale: true }, 1);
+    if (!a) continue;
+    const centre = ws + winS / 2;
+    windowT.push(centre);
+    headingDeg.push((Math.atan2(a.r[3]!, a.r[0]!) * 180) / Math.PI);
+    for (let j = lo; j < hi; j++) {
+      const dist = Math.abs(track.t[j]! - centre);
+      if (dist < bestDist[j]!) {
+        bestDist[j] = dist;
+        errH[j] = a.resH[j - lo]!;
+        errV[j] = a.resV[j - lo]!;
+      }
+    }
+  }
+  return { errH, errV, windowT: Float64Array.from(windowT), headingDeg: Float64Array.from(headingDeg) };
+}
+
+/** Runs of fixes with residual ≥ level (gaps < 2 s bridged, at least 3 fixes): value = median residual of the run. */
+function divergenceFindings(t: Float64Array, errH: Float64Array, level: number): InertialFinding[] {
+  const out: InertialFinding[] = [];
+  let start = -1, last = -1;
+  const vals: number[] = [];
+  const close = () => {
+    if (start >= 0 && vals.length >= 3) {
+      vals.sort((x, y) => x - y);
+      const med = vals[vals.length >> 1]!;
+      out.push({ kind: 'gnss-divergence', tStart: t[start]!, tEnd: t[last]!, value: med, unit: 'm', detail: `${vals.length} fixes disagree with odometry` });
+    }
+    start = -1;
+    vals.length = 0;
+  };
+  for (let j = 0; j < t.length; j++) {
+    const e = errH[j]!;
+    if (!(e >= level)) continue;
+    if (start >= 0 && t[j]! - t[last]! > 2) close();
+    if (start < 0) start = j;
+    last = j;
+    vals.push(e);
+  }
+  close();
+  return out;
+}
