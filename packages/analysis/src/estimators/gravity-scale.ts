@@ -1,0 +1,227 @@
+/**
+ * Visual–inertial alignment per sliding window: metric scale of the odometry, gravity in the odometry world and the
+ * accelerometer bias.
+ *
+ * What: per window (default 10 s, 50 % overlap) the scale s (metres per odometry unit) with its 1-sigma, gravity
+ * tilt against the odometry world −z (deg), residual RMS (m/s) and condition number; run-level scale (median of the
+ * observable windows), gravity and accelerometer bias (joint estimate over the whole run with the window scales
+ * held fixed, which separates a horizontal bias from a tilt when the heading changes).
+ * Method: velocity-free linear system over keyframe triplets (alignment-rows.ts; Mur-Artal & Tardós, IEEE RA-L 2017),
+ * linear start for (s, g), then Gauss–Newton with |g| fixed to local normal gravity and a 2-DOF tangent update
+ * (Qin & Shen, IEEE T-RO 2018). Windows without acceleration excitation (odometry acceleration std below
+ * `minAccelStd`) or with σ_s above `maxScaleSigma` are reported unobservable with the reason, never as a value.
+ */
+import type { AlignmentRows } from './alignment-rows.ts';
+import { linearStart, solveAlignment, type SolveResult } from './alignment-solve.ts';
+import { madSigma, medianOf } from './small-math.ts';
+import { emptySeries, noScalar, scalar, type ScalarResult, type Unsupported, type Vec3Result, type WindowSeries } from './types.ts';
+
+export interface GravityScaleOptions {
+  windowS?: number;
+  windowOverlap?: number;
+  gravityMS2?: number;
+  /** Odometry acceleration standard deviation below which scale is unobservable, m/s² (default 0.1). */
+  minAccelStd?: number;
+  /** Relative scale sigma above which a window is unobservable (default 0.03). */
+  maxScaleSigma?: number;
+  /** Estimate the accelerometer bias over the run (default true). */
+  estimateBias?: boolean;
+}
+
+export interface GravityScaleResult {
+  ok: true;
+  scale: WindowSeries;
+  tiltDeg: WindowSeries;
+  residual: WindowSeries;
+  condition: Float64Array;
+  accelStd: Float64Array;
+  /** Odometry distance at each window centre (odometry units). */
+  distance: Float64Array;
+  runScale: ScalarResult;
+  /** Gravity vector in the odometry world (m/s²) from the run-level joint estimate. */
+  gravity: Float64Array;
+  gravityTiltDeg: ScalarResult;
+  accelBias: Vec3Result;
+  /** Scale per alignment row (of the containing window; NaN when unobservable), used for drift refinement. */
+  rowScale: Float64Array;
+}
+
+const DEG = 180 / Math.PI;
+
+function tiltDeg(g: Float64Array): number {
+  const n = Math.hypot(g[0]!, g[1]!, g[2]!);
+  return Math.acos(Math.min(1, Math.max(-1, -g[2]! / n))) * DEG;
+}
+
+/** Row range [r0, r1) of each window by the row times (cursor sweep, O(rows)). */
+function windowRanges(rows: AlignmentRows, windowS: number, overlap: number): { t: Float64Array; r0: Int32Array; r1: Int32Array } {
+  const t0 = rows.t[0]!, t1 = rows.t[rows.n - 1]!;
+  const hop = windowS * (1 - overlap);
+  const nw = Math.max(1, Math.floor(Math.max(0, t1 - t0 - windowS) / hop) + 1);
+  const out = { t: new Float64Array(nw), r0: new Int32Array(nw), r1: new Int32Array(nw) };
+  let a = 0, b = 0;
+  for (let w = 0; w < nw; w++) {
+    const ws = t0 + w * hop, we = ws + windowS;
+    while (a < rows.n && rows.t[a]! < ws) a++;
+    if (b < a) b = a;
+    while (b < rows.n && rows.t[b]! < we) b++;
+    out.t[w] = ws + windowS / 2;
+    out.r0[w] = a;
+    out.r1[w] = b;
+  }
+  return out;
+}
+
+function accelStdOf(rows: AlignmentRows, r0: number, r1: number): number {
+  let s = 0, ss = 0;
+  const m = r1 - r0;
+  for (let r = r0; r < r1; r++) {
+    const k = -0.5 / rows.beta[r]!; // λ / (½(Δt_ab + Δt_bc)) is the mean odometry acceleration
+    for (let i = 0; i < 3; i++) {
+      const a = rows.lam[3 * r + i]! * k;
+      s += a;
+      ss += a * a;
+    }
+  }
+  return m > 0 ? Math.sqrt(Math.max(0, ss / (3 * m) - (s / (3 * m)) ** 2) * 3) : 0;
+}
+
+/** See the module comment. `worldGravityAligned` enables the tilt estimates. */
+export function estimateGravityScale(rows: AlignmentRows, worldGravityAligned: boolean, options: GravityScaleOptions = {}): GravityScaleResult | Unsupported {
+  const G = options.gravityMS2 ?? 9.80665;
+  if (rows.n < 8) return { ok: false, reason: 'insufficient: fewer than 8 keyframe triplets' };
+  const win = windowRanges(rows, options.windowS ?? 10, options.windowOverlap ?? 0.5);
+  const nw = win.t.length;
+  const minStd = options.minAccelStd ?? 0.1, maxSig = options.maxScaleSigma ?? 0.03;
+  const zero = new Float64Array(3);
+  const down = Float64Array.of(0, 0, -1);
+  const perWindow = (ba: Float64Array): (SolveResult | null)[] => {
+    const out: (SolveResult | null)[] = [];
+    for (let w = 0; w < nw; w++) {
+      const r0 = win.r0[w]!, r1 = win.r1[w]!;
+      if (r1 - r0 < 6) {
+        out.push(null);
+        continue;
+      }
+      const lin = linearStart(rows, r0, r1, ba);
+      const g0 = lin && Math.hypot(...lin.g) > 1 ? Float64Array.from(lin.g, (v) => v / Math.hypot(...lin.g)) : down;
+      const s0 = lin && lin.s > 0 ? lin.s : 1;
+      out.push(solveAlignment(rows, r0, r1, { scale: 'free', bias: ba, gravityMS2: G, g0, s0 }));
+    }
+    return out;
+  };
+  const accelStd = Float64Array.from({ length: nw }, (_, w) => accelStdOf(rows, win.r0[w]!, win.r1[w]!));
+  const observable = (w: number, r: SolveResult | null): string => {
+    if (r === null) return 'insufficient: too few keyframe triplets in the window';
+    if (accelStd[w]! < minStd) return `unobservable: no acceleration excitation (odometry acceleration std ${accelStd[w]!.toFixed(3)} < ${minStd} m/s²)`;
+    if (!(r.s > 0) || r.sSigma / r.s > maxSig) return `unobservable: scale sigma ${(r.sSigma / Math.abs(r.s) * 100).toFixed(1)} % above ${maxSig * 100} %`;
+    return '';
+  };
+  // Pass 1: scales with zero bias, to hold scale fixed while the run-level bias is estimated.
+  const first = perWindow(zero);
+  const rowScale = scalePerRow(rows, win, first.map((r, w) => (observable(w, r) === '' ? r!.s : Number.NaN)));
+  const joint = runLevel(rows, rowScale, G, options.estimateBias ?? true);
+  const ba = joint?.bias ?? zero;
+  const second = perWindow(ba);
+  const scale = emptySeries('', nw), tilt = emptySeries('deg', nw), residual = emptySeries('m/s', nw);
+  const condition = new Float64Array(nw).fill(Number.NaN);
+  for (let w = 0; w < nw; w++) {
+    const r = second[w]!;
+    scale.t[w] = tilt.t[w] = residual.t[w] = win.t[w]!;
+    const why = observable(w, r);
+    if (r !== null) {
+      residual.value[w] = r.rms;
+      condition[w] = r.condition;
+      if (worldGravityAligned) {
+        tilt.value[w] = tiltDeg(r.g);
+        tilt.sigma[w] = (Math.sqrt(0.5 * (r.gCov[0]! + r.gCov[3]!)) / G) * DEG;
+      } else tilt.reasons[w] = 'not applicable: odometry world not claimed gravity-aligned';
+    } else residual.reasons[w] = tilt.reasons[w] = why;
+    if (why === '') {
+      scale.value[w] = r!.s;
+      scale.sigma[w] = r!.sSigma;
+    } else scale.reasons[w] = why;
+  }
+  return {
+    ok: true, scale, tiltDeg: tilt, residual, condition, accelStd,
+    distance: Float64Array.from(win.t, (t) => distanceAt(rows, t)),
+    runScale: runScaleOf(scale),
+    gravity: joint?.g ?? Float64Array.of(0, 0, -G),
+    gravityTiltDeg: !worldGravityAligned
+      ? noScalar('deg', 'not applicable: odometry world not claimed gravity-aligned')
+      : joint === null ? noScalar('deg', 'unobservable: no window with acceleration excitation') : scalar(tiltDeg(joint.g), joint.tiltSigmaDeg, 'deg'),
+    accelBias: joint?.biasResult ?? { value: null, sigma: null, unit: 'm/s²', reason: 'unobservable: no window with acceleration excitation' },
+    rowScale: scalePerRow(rows, win, scale.value),
+  };
+}
+
+function distanceAt(rows: AlignmentRows, t: number): number {
+  let lo = 0, hi = rows.n - 1;
+  while (lo < hi) {
+    const mid = (lo + hi + 1) >> 1;
+    if (rows.t[mid]! <= t) lo = mid;
+    else hi = mid - 1;
+  }
+  return rows.distance[lo]!;
+}
+
+/** Each row takes the scale of the window whose centre is nearest. */
+function scalePerRow(rows: AlignmentRows, win: { t: Float64Array }, s: ArrayLike<number>): Float64Array {
+  const out = new Float64Array(rows.n);
+  let w = 0;
+  for (let r = 0; r < rows.n; r++) {
+    while (w + 1 < win.t.length && Math.abs(win.t[w + 1]! - rows.t[r]!) <= Math.abs(win.t[w]! - rows.t[r]!)) w++;
+    out[r] = s[w]!;
+  }
+  return out;
+}
+
+interface Joint {
+  g: Float64Array;
+  tiltSigmaDeg: number;
+  bias: Float64Array | null;
+  biasResult: Vec3Result;
+}
+
+/** Run-level gravity and bias over the rows whose window scale is known. */
+function runLevel(rows: AlignmentRows, rowScale: Float64Array, G: number, withBias: boolean): Joint | null {
+  // Keep only rows with a known scale (compacted copy; rows are few compared with IMU samples).
+  const keep: number[] = [];
+  for (let r = 0; r < rows.n; r++) if (Number.isFinite(rowScale[r]!)) keep.push(r);
+  if (keep.length < 8) return null;
+  const sub = subsetRows(rows, keep);
+  const sc = Float64Array.from(keep, (r) => rowScale[r]!);
+  const spec = { scale: sc, gravityMS2: G, g0: Float64Array.of(0, 0, -1), s0: 1 };
+  const withB = withBias ? solveAlignment(sub, 0, sub.n, { ...spec, bias: 'free' }) : null;
+  const biasOk = withB !== null && Math.max(...withB.baSigma) < 0.05;
+  const r = biasOk ? withB : solveAlignment(sub, 0, sub.n, { ...spec, bias: new Float64Array(3) });
+  if (r === null) return null;
+  const tiltSigmaDeg = (Math.sqrt(0.5 * (r.gCov[0]! + r.gCov[3]!)) / G) * DEG;
+  const biasResult: Vec3Result = biasOk
+    ? { value: [r.ba[0]!, r.ba[1]!, r.ba[2]!], sigma: [r.baSigma[0]!, r.baSigma[1]!, r.baSigma[2]!], unit: 'm/s²' }
+    : { value: null, sigma: null, unit: 'm/s²', reason: withBias ? 'unobservable: too little heading change to separate bias from tilt' : 'not estimated' };
+  return { g: r.g, tiltSigmaDeg, bias: biasOk ? r.ba : null, biasResult };
+}
+
+function subsetRows(rows: AlignmentRows, keep: number[]): AlignmentRows {
+  const n = keep.length;
+  const out: AlignmentRows = { n, t: new Float64Array(n), distance: new Float64Array(n), lam: new Float64Array(3 * n), beta: new Float64Array(n), y: new Float64Array(3 * n), m: new Float64Array(9 * n) };
+  keep.forEach((r, i) => {
+    out.t[i] = rows.t[r]!;
+    out.distance[i] = rows.distance[r]!;
+    out.beta[i] = rows.beta[r]!;
+    out.lam.set(rows.lam.subarray(3 * r, 3 * r + 3), 3 * i);
+    out.y.set(rows.y.subarray(3 * r, 3 * r + 3), 3 * i);
+    out.m.set(rows.m.subarray(9 * r, 9 * r + 9), 9 * i);
+  });
+  return out;
+}
+
+/** Median of the observable window scales; σ from the MAD over √(n/2) (windows overlap by half). */
+function runScaleOf(s: WindowSeries): ScalarResult {
+  const vals: number[] = [];
+  for (let w = 0; w < s.value.length; w++) if (Number.isFinite(s.value[w]!)) vals.push(s.value[w]!);
+  if (vals.length === 0) return noScalar('', s.reasons.find((r) => r.startsWith('unobservable')) ?? 'unobservable: no window with acceleration excitation');
+  const sigma = vals.length >= 3 ? (1.2533 * madSigma(vals)) / Math.sqrt(Math.max(1, vals.length / 2)) : null;
+  return scalar(medianOf(vals), sigma, '');
+}
