@@ -44,10 +44,9 @@ export const FLAG_KIND_LABEL: Record<FlagKind, string> = {
 export function fmtNum(v: number | null | undefined, digits = 3): string {
   if (v === null || v === undefined || !Number.isFinite(v)) return '—';
   if (v === 0) return '0';
-  const abs = Math.abs(v);
-  if (abs >= 1000) return v.toFixed(0);
-  if (abs >= 0.001) return Number(v.toPrecision(digits)).toString();
-  return v.toExponential(digits - 1);
+  if (Math.abs(v) >= 1000) return v.toFixed(0);
+  // Plain decimals down to 1e-6; JavaScript switches to exponent notation below that by itself.
+  return Number(v.toPrecision(digits)).toString();
 }
 
 /** `1.02 ± 0.01 m` or `not observable: reason`. */

@@ -1,0 +1,52 @@
+import { describe, expect, it } from 'vitest';
+import { buildFixtureReport } from '../../dev/fixture-report.ts';
+import { filterFromParams } from './queue-view.ts';
+import { createDraft, draftToInput } from './review-draft.ts';
+import { labelFor, plotPlan } from './run-plots.ts';
+
+describe('queue filters from the address bar', () => {
+  it('defaults to the open queue sorted by priority', () => {
+    expect(filterFromParams(new URLSearchParams(''))).toEqual({ sort: 'priority', limit: '50', reviewed: 'false' });
+  });
+  it('passes filters through and turns dates into whole UTC days', () => {
+    const f = filterFromParams(new URLSearchParams('robot_id=heron-01&verdict=unfit&flag_kind=time-offset&from=2026-11-01&to=2026-11-30'));
+    expect(f).toMatchObject({ robot_id: 'heron-01', verdict: 'unfit', flag_kind: 'time-offset', started_after: '2026-11-01T00:00:00Z', started_before: '2026-11-30T23:59:59Z' });
+  });
+  it('shows every run newest first for reviewed=all and ignores malformed dates', () => {
+    const f = filterFromParams(new URLSearchParams('reviewed=all&from=yesterday'));
+    expect(f.reviewed).toBeUndefined();
+    expect(f.sort).toBe('-received_at');
+    expect(f.started_after).toBeUndefined();
+  });
+});
+
+describe('review draft', () => {
+  it('requires a decision', () => {
+    const r = draftToInput(createDraft(['scale-drift-1']));
+    expect(r.ok).toBe(false);
+  });
+  it('sends only the flags that got a disposition, with trimmed notes', () => {
+    const d = createDraft(['scale-drift-1', 'loop-mismatch-1']);
+    d.decision = 'accept-trimmed';
+    d.note = '  cut aisle 4  ';
+    d.flags.set('scale-drift-1', { disposition: 'upheld', note: ' blur ' });
+    const r = draftToInput(d);
+    expect(r).toEqual({ ok: true, input: { decision: 'accept-trimmed', note: 'cut aisle 4', flags: [{ flag_id: 'scale-drift-1', disposition: 'upheld', note: 'blur' }] } });
+  });
+});
+
+describe('plot plan', () => {
+  const rep = buildFixtureReport({ robotId: 'plover-01', runId: 'r', site: 'northgate-yard', startedAt: '2026-11-30T06:00:00Z', durationS: 3600, seed: 3, fault: 'scale' });
+  it('orders known series first and IMU rates last', () => {
+    expect(plotPlan(rep).map((p) => p.key)).toEqual(['scale', 'gravity_tilt_deg', 'rotation_residual_deg_s', 'time_offset_ms', 'gnss_error_m', 'imu_gyro_z_rad_s']);
+  });
+  it('shades a flag only on the plots that are evidence for it', () => {
+    const plan = plotPlan(rep);
+    expect(plan.find((p) => p.key === 'scale')!.flags.map((f) => f.id)).toEqual(['scale-drift-1']);
+    expect(plan.find((p) => p.key === 'gravity_tilt_deg')!.flags).toEqual([]);
+  });
+  it('labels unknown series from their key without the unit suffix', () => {
+    expect(labelFor('imu_gyro_z_rad_s')).toBe('IMU gyro z');
+    expect(labelFor('wheel_slip_pct')).toBe('Wheel slip');
+  });
+});
