@@ -48,7 +48,7 @@ describe('parseManifest', () => {
     const m = manifest();
     delete m.robot_id;
     const e = manifestError(JSON.stringify({ ...m, site: 'no spaces allowed' }));
-    expect(e.paths.sort()).toEqual(['robot_id', 'site']);
+    expect([...e.paths].sort()).toEqual(['robot_id', 'site']);
     expect(e.issues).toHaveLength(2);
     expect(e.issues.find((i) => i.message.startsWith('robot_id'))).toMatchObject({ line: 1, column: 1 });
   });

@@ -120,7 +120,7 @@ export async function tarBuffer(entries: TarEntry[], gzip = false): Promise<Buff
   })();
   for (const e of entries) {
     const data = e.data === undefined ? undefined : Buffer.from(typeof e.data === 'string' ? enc(e.data) : e.data);
-    const header: Header = { name: e.name, type: e.type ?? 'file', ...(e.linkname === undefined ? {} : { linkname: e.linkname }), size: data?.length ?? 0, mode: e.type === 'directory' ? 0o755 : 0o644 };
+    const header: Partial<Header> & { name: string } = { name: e.name, type: e.type ?? 'file', ...(e.linkname === undefined ? {} : { linkname: e.linkname }), size: data?.length ?? 0, mode: e.type === 'directory' ? 0o755 : 0o644 };
     await new Promise<void>((resolve, reject) => {
       const cb = (err?: Error | null) => (err ? reject(err) : resolve());
       if (data === undefined) p.entry(header, cb);
