@@ -11,6 +11,7 @@ export { theilSen, irlsLine } from './robust-fit.ts';
 export type { TheilSenResult, IrlsResult } from './robust-fit.ts';
 export { cusum, stepChange } from './change-point.ts';
 export type { CusumAlarm, StepChangeResult } from './change-point.ts';
+export { lttb } from './lttb.ts';
 export { PoseInterpolator, poseAt, searchFloor } from './pose-interpolator.ts';
 export { umeyama, applySimilarity } from './umeyama.ts';
 export type { PointColumns, UmeyamaOptions, UmeyamaResult } from './umeyama.ts';
