@@ -41,14 +41,14 @@ export function simulateRun(spec: RunSpec): SimulatedRun {
   og.fill(0, og.count, odometry);
   let gnss: GnssBlock | null = null;
   let multipath: ReturnType<typeof createGnssGenerator>['multipath'] = [];
-  if (spec.gnssRateHz > 0) {
+  if (hasGnss(scenario)) {
     const gg = createGnssGenerator(scenario);
     gnss = createGnssBlock(gg.count);
     gg.fill(0, gg.count, gnss);
     multipath = gg.multipath;
   }
   const lp = spec.loops ? generateLoops(scenario) : null;
-  const manifest = buildManifest(scenario, defaultFiles(spec, false));
+  const manifest = buildManifest(scenario, defaultFiles(scenario, false));
   const truth = buildTruth(scenario, {
     multipath,
     falseLoops: lp?.falseLoops ?? [],
@@ -58,13 +58,19 @@ export function simulateRun(spec: RunSpec): SimulatedRun {
   return { spec, scenario, manifest, truth, imu, odometry, gnss, loops: lp?.loops ?? null };
 }
 
+/** GNSS is written only when the run has a receiver and spends time outdoors (an all-indoor run has no fixes). */
+export function hasGnss(s: Scenario): boolean {
+  return s.spec.gnssRateHz > 0 && s.motion.outdoorIntervals.length > 0;
+}
+
 /** File names inside the bundle. */
-export function defaultFiles(spec: RunSpec, gzip: boolean) {
+export function defaultFiles(s: Scenario, gzip: boolean) {
+  const spec = s.spec;
   const z = gzip ? '.gz' : '';
   return {
     odometry: `odometry.csv${z}`,
     imu: `imu.csv${z}`,
-    gnss: spec.gnssRateHz > 0 ? (spec.gnssFormat === 'nmea' ? 'gnss.nmea' : `gnss.csv${z}`) : undefined,
+    gnss: hasGnss(s) ? (spec.gnssFormat === 'nmea' ? 'gnss.nmea' : `gnss.csv${z}`) : undefined,
     loops: spec.loops ? `loops.csv${z}` : undefined,
   };
 }

@@ -172,7 +172,7 @@ export function buildTruth(s: Scenario, x: TruthExtras): RunTruth {
     time_offset_s: constOffset,
     extrinsic_true: { translation: arr(s.imuTOdomTrue.t), rotation_wxyz: arr(s.imuTOdomTrue.q) },
     extrinsic_manifest: { translation: arr(s.imuTOdomManifest.t), rotation_wxyz: arr(s.imuTOdomManifest.q) },
-    extrinsic_rotation_error_deg: r9(quat.angleBetween(s.imuTOdomTrue.q, s.imuTOdomManifest.q) * RAD),
+    extrinsic_rotation_error_deg: r9(quat.angle(quat.multiply(quat.create(), quat.conjugate(quat.create(), s.imuTOdomTrue.q), s.imuTOdomManifest.q)) * RAD),
     odom_world_in_enu: { translation: arr(s.enuTOdomWorld.t), rotation_wxyz: arr(s.enuTOdomWorld.q) },
     world_gravity_aligned_claim: s.worldGravityAlignedClaim,
     gravity_in_odom_world: arr(g),
@@ -192,7 +192,7 @@ export function buildTruth(s: Scenario, x: TruthExtras): RunTruth {
     },
     odometry: { rate_hz: spec.odometryRateHz, source: spec.odometrySource, monocular: spec.monocular, stamps: 'odometry clock' },
     gnss:
-      spec.gnssRateHz > 0
+      spec.gnssRateHz > 0 && s.motion.outdoorIntervals.length > 0
         ? {
             rate_hz: spec.gnssRateHz,
             format: spec.gnssFormat,

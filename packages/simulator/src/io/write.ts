@@ -46,7 +46,7 @@ export async function writeRun(run: SimulatedRun, outDir: string, options: Write
   const nmea = options.nmea ?? run.spec.gnssFormat === 'nmea';
   const level = options.level ?? 9;
   const spec = { ...run.spec, gnssFormat: nmea ? ('nmea' as const) : ('csv' as const) };
-  const files = defaultFiles(spec, gzip);
+  const files = defaultFiles({ ...run.scenario, spec }, gzip);
   const dir = join(outDir, 'bundle');
   await rm(dir, { recursive: true, force: true });
   await mkdir(dir, { recursive: true });
