@@ -1,5 +1,6 @@
 import { randomUUID } from 'node:crypto';
 import { Redis } from 'ioredis';
+import { Worker } from 'bullmq';
 import { describe, expect, it } from 'vitest';
 import { createBullmqQueue, obliterateBullmqQueue } from './bullmq.ts';
 import { describeQueueContract, job, waitFor } from './testing/queue-contract.ts';
@@ -54,6 +55,31 @@ describe.skipIf(!available)('BullMQ queue: adapter specifics', () => {
     } finally {
       await queue.close();
       await obliterateBullmqQueue({ redisUrl: REDIS_URL, queueName, prefix: 'plumbline-test' });
+    }
+  });
+
+  it('re-delivers a stalled job whose worker died (lock not renewed)', async () => {
+    const queueName = `test-${randomUUID()}`;
+    const prefix = 'plumbline-test';
+    const queue = createBullmqQueue({ redisUrl: REDIS_URL, queueName, prefix, lockDurationMs: 1000 });
+    try {
+      await queue.enqueue(job(2), { jobId: 'stalls' });
+      // a raw worker takes the job and is then killed without finishing it or releasing its lock; it uses the
+      // adapter's stalled-check interval because BullMQ rate-limits stalled checks by the last checker's interval
+      let taken = false;
+      const doomed = new Worker(queueName, () => {
+        taken = true;
+        return new Promise<void>(() => undefined);
+      }, { connection: { url: REDIS_URL, maxRetriesPerRequest: null }, prefix, lockDuration: 1000, stalledInterval: 1000 });
+      await waitFor(() => taken, 10_000, 'doomed worker to take the job');
+      await doomed.close(true);
+      const seen: string[] = [];
+      queue.work(async (j) => void seen.push(j.id), { concurrency: 1 });
+      await waitFor(() => seen.length === 1, 15_000, 'stalled job re-delivered');
+      expect(seen).toEqual(['stalls']);
+    } finally {
+      await queue.close();
+      await obliterateBullmqQueue({ redisUrl: REDIS_URL, queueName, prefix });
     }
   });
 

@@ -103,3 +103,30 @@ describe('embedded queue: durability', () => {
     db.close();
   });
 });
+
+describe('embedded queue: housekeeping', () => {
+  it('prunes completed jobs older than the cut-off and keeps dead ones', async () => {
+    const db = openDatabase(':memory:');
+    const table = createJobTable(db, 'analysis');
+    const old = Date.now() - 10_000;
+    table.insert('done-old', JSON.stringify(job(1)), old, 5, old);
+    table.insert('dead-old', JSON.stringify(job(2)), old, 5, old);
+    const a = table.claim(old, 1000)!;
+    table.complete(a.id, a.lease_token, old);
+    const b = table.claim(old, 1000)!;
+    table.fail(b.id, b.lease_token, 'gave up', null, old);
+    table.insert('fresh', JSON.stringify(job(3)), Date.now(), 5, Date.now());
+    const c = table.claim(Date.now(), 1000)!;
+    table.complete(c.id, c.lease_token, Date.now());
+    expect(table.pruneCompleted(Date.now() - 5000)).toBe(1);
+    expect(db.prepare('SELECT id FROM jobs ORDER BY id').pluck().all()).toEqual(['dead-old', 'fresh']);
+    db.close();
+  });
+
+  it('refuses job ids with ":" (not accepted by the Redis adapter either)', async () => {
+    const db = openDatabase(':memory:');
+    const queue = createEmbeddedQueue(db);
+    await expect(queue.enqueue(job(1), { jobId: 'run:1' })).rejects.toThrow(RangeError);
+    db.close();
+  });
+});

@@ -19,6 +19,10 @@ function wakeupOf(db: Database.Database): EventEmitter {
   return emitter;
 }
 
+/** Completed jobs are kept this long (for counts and dedup of late re-sends), then pruned by the workers. */
+const KEEP_COMPLETED_MS = 24 * 3600_000;
+const PRUNE_EVERY_MS = 60_000;
+
 interface Settings {
   maxAttempts: number;
   backoffMs: number;
@@ -68,6 +72,7 @@ function startWorker(db: Database.Database, table: JobTable, s: Settings, handle
   const inFlight = new Set<Promise<void>>();
   let running = true;
   let timer: NodeJS.Timeout | undefined;
+  let prunedAt = 0;
 
   const fill = (): void => {
     if (timer) clearTimeout(timer);
@@ -89,6 +94,15 @@ function startWorker(db: Database.Database, table: JobTable, s: Settings, handle
         if (running) setImmediate(fill);
       });
       inFlight.add(p);
+    }
+    const now = Date.now();
+    if (running && now - prunedAt > PRUNE_EVERY_MS) {
+      prunedAt = now;
+      try {
+        table.pruneCompleted(now - KEEP_COMPLETED_MS);
+      } catch {
+        // pruning is housekeeping; a busy database just postpones it
+      }
     }
     if (running) timer = setTimeout(fill, s.pollIntervalMs);
   };

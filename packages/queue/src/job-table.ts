@@ -36,6 +36,8 @@ export interface JobTable {
   /** Failed attempt: back to waiting at `retryAt`, or dead when `retryAt` is null. */
   fail(id: string, leaseToken: string, error: string, retryAt: number | null, now: number): boolean;
   counts(now: number): JobTableCounts;
+  /** Deletes completed jobs last updated before `before`; returns how many. Dead jobs are kept for inspection. */
+  pruneCompleted(before: number): number;
 }
 
 export function createJobTable(db: Database.Database, queue: string): JobTable {
@@ -86,6 +88,8 @@ export function createJobTable(db: Database.Database, queue: string): JobTable {
      FROM jobs WHERE queue = @queue`,
   );
 
+  const prune = db.prepare(`DELETE FROM jobs WHERE queue = ? AND state = 'completed' AND updated_at < ?`);
+
   const insert = db.transaction((id: string, payload: string, runAt: number, max: number, now: number): boolean => {
     const state = existing.get(queue, id) as string | undefined;
     if (state === 'waiting' || state === 'active') return false;
@@ -109,6 +113,7 @@ export function createJobTable(db: Database.Database, queue: string): JobTable {
       const state = retryAt === null ? 'dead' : 'waiting';
       return fail.run({ state, retryAt, error: error.slice(0, 4000), now, queue, id, token }).changes > 0;
     },
+    pruneCompleted: (before) => prune.run(queue, before).changes,
     counts(now) {
       const row = tally.get({ now, queue }) as Record<keyof JobTableCounts, number | null>;
       return {

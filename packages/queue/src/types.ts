@@ -78,7 +78,10 @@ export interface BullmqQueueOptions extends RetryOptions {
   /** Completed jobs kept (default 1000) and failed/dead jobs kept (default 5000). */
   keepCompleted?: number;
   keepFailed?: number;
-  /** Lock duration of an active job (default 30 s); a job not renewed in time is stalled and re-delivered. */
+  /** Lock duration of an active job (default 30 s); a job not renewed in time is stalled and re-delivered.
+   *  Stalled checks run every lockDurationMs / 2 (at least 1 s); give every worker of a queue the same value,
+   *  since BullMQ rate-limits stalled checks by the interval of the last worker that checked. A stalled re-delivery
+   *  does not count as an attempt in BullMQ (it does in the embedded queue). */
   lockDurationMs?: number;
 }
 
