@@ -110,6 +110,10 @@ describe('header problems', () => {
     expect(r.stats.extraColumns).toEqual(['temp_c']);
     expect([...r.columns.ax]).toEqual([5]);
   });
+  it('header names may be quoted and in any case', async () => {
+    const r = await imuFrom('"T","GX",gy,gz,ax,ay,Az\n1,2,3,4,5,6,7\n');
+    expect([...r.columns.gx, ...r.columns.az]).toEqual([2, 7]);
+  });
   it('duplicate column is rejected', async () => {
     const e = await bundleError(() => imuFrom('t,gx,gx,gy,gz,ax,ay,az\n'));
     expect(e).toMatchObject({ code: 'CSV_BAD_HEADER', line: 1, column: 3 });

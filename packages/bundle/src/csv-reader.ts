@@ -139,7 +139,7 @@ export class CsvColumnParser {
     if (bad >= 0) {
       throw new BundleError('NOT_UTF8', 'header is not valid UTF-8', { file: this.file, line: lineNo, column: bad - start + 1 });
     }
-    const names = buf.toString('utf8', start, end).split(',').map((h) => h.trim().toLowerCase());
+    const names = buf.toString('utf8', start, end).split(',').map((h) => h.trim().replace(/^"(.*)"$/, '$1').toLowerCase());
     const specNames = this.spec.columns.map((c) => c.name);
     this.fieldTarget = new Int32Array(names.length);
     this.targetField = specNames.map(() => -1);
