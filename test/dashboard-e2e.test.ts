@@ -102,6 +102,9 @@ describe.skipIf(!haveBrowser)('dashboard end to end', () => {
     });
     page = await browser.newPage({ viewport: { width: 1280, height: 800 } });
     page.on('pageerror', (e) => pageErrors.push(e.message));
+    page.on('console', (m) => {
+      if (m.type() === 'error') pageErrors.push(`console: ${m.text()}`);
+    });
     await mkdir(ARTIFACTS, { recursive: true });
   });
 

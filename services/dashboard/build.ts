@@ -30,6 +30,7 @@ export async function buildDashboard(outDir = join(dirname(fileURLToPath(import.
 <meta charset="utf-8">
 <meta name="viewport" content="width=device-width, initial-scale=1">
 <title>Plumbline</title>
+<link rel="icon" href="data:,">
 <link rel="stylesheet" href="/assets/app-style.css">
 <script type="module" src="/assets/app.js"></script>
 </head>

@@ -67,6 +67,8 @@ export interface ApiClient {
   audit(id: string): Promise<AuditEntry[]>;
   postReview(id: string, input: ReviewInput): Promise<Review>;
   robots(): Promise<RobotSummary[]>;
+  /** `GET /runs/:id/trajectory.csv` as a Blob (needs the bearer header, so a plain link cannot fetch it). */
+  trajectoryCsv(id: string, variant: 'repaired' | 'original'): Promise<Blob>;
 }
 
 /**
@@ -119,5 +121,14 @@ export function createApiClient(getToken: () => string | null, base = '/api/v1')
         body: JSON.stringify(input),
       }),
     robots: () => call(RobotSummary.array(), '/robots'),
+    async trajectoryCsv(id, variant) {
+      const token = getToken();
+      const res = await fetch(`${base}/runs/${enc(id)}/trajectory.csv?variant=${variant}`, { headers: token ? { Authorization: `Bearer ${token}` } : {} });
+      if (!res.ok) {
+        const parsed = Problem.safeParse(await res.json().catch(() => null));
+        throw new ApiError(res.status, parsed.success ? parsed.data.title : `HTTP ${res.status}`, parsed.success ? parsed.data : null);
+      }
+      return res.blob();
+    },
   };
 }

@@ -102,6 +102,10 @@ async function route(): Promise<void> {
     mount(main, current.el);
     document.title = `${main.querySelector('h1')?.textContent ?? 'Plumbline'} · Plumbline`;
   } catch (err) {
+    if (err instanceof ApiError && err.status === 401) {
+      signOut(); // token revoked or expired while the page was open
+      return;
+    }
     const msg = err instanceof Error ? err.message : String(err);
     mount(main, h('div', { class: 'error-box', role: 'alert' }, h('h1', {}, 'Could not load this page'), h('p', {}, msg)));
   }

@@ -61,3 +61,17 @@ describe('ranges', () => {
     expect(pathBounds([p, null, q])).toEqual([-2, -4, 7, 3]);
   });
 });
+
+describe('map stretches', () => {
+  it('draws segments with their flag ids and adds flags outside any segment', async () => {
+    const { buildFixtureReport } = await import('../../dev/fixture-report.ts');
+    const { mapStretches } = await import('./map-view.ts');
+    const rep = buildFixtureReport({ robotId: 'kestrel-01', runId: 'r', site: 'harbourside-depot', startedAt: '2026-11-30T06:00:00Z', durationS: 3600, seed: 2, fault: 'scale' });
+    const flags = rep.flags.slice(0, 2);
+    const merged = { ...rep, segments: [{ id: 'segment-1', t_start: 10, t_end: 20, distance_start_m: 5, distance_end_m: 9, severity: 'critical' as const, kinds: ['scale-drift' as const], flag_ids: ['a-1', 'a-2', 'a-3', flags[0]!.id] }], flags };
+    expect(mapStretches(merged)).toEqual([
+      { t_start: 10, t_end: 20, severity: 'critical', label: 'a-1, a-2 +2' },
+      { t_start: flags[1]!.t_start, t_end: flags[1]!.t_end, severity: flags[1]!.severity, label: flags[1]!.id },
+    ]);
+  });
+});

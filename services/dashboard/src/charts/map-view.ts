@@ -109,27 +109,34 @@ export function createMapView(report: Report, cursor: TimeCursor, height = 420):
     }
   }
 
-  function drawFlags(ctx: CanvasRenderingContext2D, flags: readonly Flag[]): void {
-    for (const f of flags) {
-      const i0 = indexAtTime(traj.t, f.t_start);
-      const i1 = Math.max(indexAtTime(traj.t, f.t_end), i0 + 1);
+  function drawStretches(ctx: CanvasRenderingContext2D, stretches: readonly Stretch[]): void {
+    for (const st of stretches) {
+      const i0 = indexAtTime(traj.t, st.t_start);
+      const i1 = Math.min(Math.max(indexAtTime(traj.t, st.t_end), i0 + 1), traj.x.length - 1);
       if (i0 < 0) continue;
-      const style = SEVERITY_STYLE[f.severity];
+      const style = SEVERITY_STYLE[st.severity];
       ctx.lineCap = 'butt';
       ctx.lineWidth = 9;
       ctx.strokeStyle = 'rgba(255,255,255,0.85)';
       ctx.setLineDash([]);
-      strokePath(ctx, traj, i0, Math.min(i1, traj.x.length - 1));
+      strokePath(ctx, traj, i0, i1);
       ctx.lineWidth = 6;
       ctx.strokeStyle = style.colour;
-      ctx.setLineDash(severityDash(f.severity));
-      strokePath(ctx, traj, i0, Math.min(i1, traj.x.length - 1));
+      ctx.setLineDash(severityDash(st.severity));
+      strokePath(ctx, traj, i0, i1);
       ctx.setLineDash([]);
-      const mid = Math.min(Math.round((i0 + i1) / 2), traj.x.length - 1);
+      const mid = Math.round((i0 + i1) / 2);
+      const mx = sx(traj.x[mid]!);
+      const my = sy(traj.y[mid]!);
+      ctx.strokeStyle = '#000';
+      ctx.lineWidth = 1.5;
+      ctx.beginPath();
+      ctx.arc(mx, my, 4, 0, 2 * Math.PI); // anchor for the label, visible even for a one-sample stretch
+      ctx.stroke();
       ctx.font = 'bold 12px system-ui, "DejaVu Sans", sans-serif';
       ctx.textAlign = 'left';
       ctx.textBaseline = 'bottom';
-      haloText(ctx, `${style.glyph} ${f.id}`, sx(traj.x[mid]!) + 8, sy(traj.y[mid]!) - 6);
+      haloText(ctx, `${style.glyph} ${st.label}`, mx + 8, my - 6);
     }
   }
 
@@ -189,7 +196,7 @@ export function createMapView(report: Report, cursor: TimeCursor, height = 420):
     ctx.lineWidth = 1.6;
     strokePath(ctx, traj);
     drawLoops(ctx, report.loops);
-    drawFlags(ctx, report.flags);
+    drawStretches(ctx, mapStretches(report));
     if (traj.x.length > 0) {
       ctx.font = '12px system-ui, "DejaVu Sans", sans-serif';
       ctx.textAlign = 'left';
@@ -281,6 +288,23 @@ export function createMapView(report: Report, cursor: TimeCursor, height = 420):
   cursor.subscribe(drawOverlay);
   new ResizeObserver(layout).observe(stage);
   return stage;
+}
+
+/** A flagged stretch of path to draw: a segment of merged flags, or a flag that belongs to no segment. */
+export interface Stretch {
+  t_start: number;
+  t_end: number;
+  severity: Flag['severity'];
+  label: string;
+}
+
+/** Segments first (labelled with up to two flag ids), then flags no segment covers; keeps a busy run readable. */
+export function mapStretches(report: Report): Stretch[] {
+  const covered = new Set(report.segments.flatMap((s) => s.flag_ids));
+  const ids = (list: readonly string[]): string => (list.length <= 2 ? list.join(', ') : `${list.slice(0, 2).join(', ')} +${list.length - 2}`);
+  const out: Stretch[] = report.segments.map((s) => ({ t_start: s.t_start, t_end: s.t_end, severity: s.severity, label: ids(s.flag_ids) }));
+  for (const f of report.flags) if (!covered.has(f.id)) out.push({ t_start: f.t_start, t_end: f.t_end, severity: f.severity, label: f.id });
+  return out;
 }
 
 interface MapInteraction {

@@ -75,14 +75,18 @@ export function createTimePlot(opts: TimePlotOptions): HTMLElement {
   }
 
   function drawFlags(ctx: CanvasRenderingContext2D): void {
-    for (const f of opts.flags) {
+    let labelEnd = -Infinity; // labels that would overlap the previous one are left out; the flag list has them all
+    ctx.textBaseline = 'top';
+    ctx.textAlign = 'left';
+    for (const f of [...opts.flags].sort((a, b) => a.t_start - b.t_start)) {
       const x0 = xOf(f.t_start);
       const x1 = Math.max(xOf(f.t_end), x0 + 3);
       ctx.fillStyle = hatchPattern(ctx, f.severity);
       ctx.fillRect(x0, PAD.top, x1 - x0, h - PAD.top - PAD.bottom);
-      ctx.textBaseline = 'top';
-      ctx.textAlign = 'left';
-      haloText(ctx, f.id, x0 + 2, 1);
+      if (x0 > labelEnd) {
+        haloText(ctx, f.id, x0 + 2, 1);
+        labelEnd = x0 + 2 + ctx.measureText(f.id).width + 6;
+      }
     }
   }
 

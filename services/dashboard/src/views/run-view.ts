@@ -30,6 +30,27 @@ function legend(report: Report): HTMLElement {
   );
 }
 
+function downloads(ctx: AppContext, detail: RunDetail): HTMLElement | null {
+  if (!detail.report) return null;
+  const s = detail.summary;
+  const button = (variant: 'repaired' | 'original'): HTMLElement =>
+    h('button', {
+      type: 'button',
+      class: 'link',
+      onclick: async () => {
+        try {
+          const blob = await ctx.api.trajectoryCsv(s.id, variant);
+          const a = h('a', { href: URL.createObjectURL(blob), download: `${s.robot_id}_${s.run_id}_${variant}.csv` });
+          a.click();
+          setTimeout(() => URL.revokeObjectURL(a.href), 10_000);
+        } catch (err) {
+          ctx.announce(`Download failed: ${err instanceof Error ? err.message : String(err)}`, 'error');
+        }
+      },
+    }, variant);
+  return h('p', { class: 'small downloads' }, 'Trajectory CSV: ', button('repaired'), ' · ', button('original'));
+}
+
 function header(detail: RunDetail): HTMLElement {
   const s = detail.summary;
   const decided = s.decision ? `${DECISION_STYLE[s.decision].label} (${fmtTimestamp(s.reviewed_at)})` : 'awaiting decision';
@@ -84,7 +105,7 @@ export async function renderRun(ctx: AppContext, id: string): Promise<View> {
   const mapHeight = Math.round(Math.min(460, Math.max(300, window.innerHeight * 0.42)));
   const mapCard = h('section', { class: 'card map-card' }, h('h2', {}, 'Map ', h('span', { class: 'muted small' }, '(top-down, odometry frame · drag to pan, wheel to zoom, double-click to fit)')), createMapView(report, cursor, mapHeight), legend(report));
   const plotCard = h('section', { class: 'card' }, h('h2', {}, 'Signals over run time ', h('span', { class: 'muted small' }, '(hover or click to follow one moment on the map and every plot; hatched = flagged)')), renderPlots(report, cursor));
-  const side = h('aside', { class: 'run-side' }, caution, h('section', { class: 'card' }, h('h2', {}, `Flags (${report.flags.length})`), flags.el), panel.el, renderEstimates(report));
+  const side = h('aside', { class: 'run-side' }, caution, h('section', { class: 'card' }, h('h2', {}, `Flags (${report.flags.length})`), flags.el), panel.el, renderEstimates(report), downloads(ctx, detail));
   const el = h('section', { class: 'run' }, nav, header(detail), h('div', { class: 'run-grid' }, h('div', { class: 'run-main' }, mapCard, plotCard), side));
   return { el, onKey: (ev) => runKeys(ev, { step, panel, flags, back: () => ctx.navigate(ctx.queueHash) }) };
 }
