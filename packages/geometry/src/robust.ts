@@ -130,9 +130,10 @@ export function cauchyWeight(u: number, c = 2.3849): number {
 }
 
 /**
- * Trailing-window mean and variance (unbiased, n − 1) over the last `window` non-NaN-aware samples ending at i:
+ * Trailing-window mean and variance (unbiased, n − 1) over the last `window` samples ending at i:
  * outMean[i], outVar[i] use v[max(0, i − window + 1) .. i], skipping NaN (NaN out when the window has no value;
- * variance NaN below 2 values). O(n) with Welford-style add/remove updates (B. P. Welford, Technometrics 4, 1962).
+ * variance NaN below 2 values). O(n): Welford-style add/remove updates (B. P. Welford, Technometrics 4, 1962), with
+ * an exact two-pass recomputation of the window every `window` steps so rounding drift cannot accumulate.
  */
 export function runningMeanVar(outMean: Float64Array, outVar: Float64Array, v: Float64Array, window: number): void {
   const n = v.length;
@@ -161,6 +162,14 @@ export function runningMeanVar(outMean: Float64Array, outVar: Float64Array, v: F
         mean -= d / count;
         m2 -= d * (y - mean);
       }
+    }
+    if (i % window === window - 1 && count > 0) {
+      // periodic exact refresh over v[i − window + 1 .. i]: O(window) every window steps keeps the pass O(n)
+      let s = 0;
+      for (let k = i - window + 1; k <= i; k++) if (!Number.isNaN(v[k]!)) s += v[k]!;
+      mean = s / count;
+      m2 = 0;
+      for (let k = i - window + 1; k <= i; k++) if (!Number.isNaN(v[k]!)) m2 += (v[k]! - mean) ** 2;
     }
     outMean[i] = count > 0 ? mean : Number.NaN;
     outVar[i] = count > 1 ? Math.max(0, m2 / (count - 1)) : Number.NaN;
