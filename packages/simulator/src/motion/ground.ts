@@ -152,7 +152,10 @@ export function createGroundMotion(durationS: number, opt: GroundOptions): Motio
     durationS,
     pathLengthM: path,
     phaseStarts,
-    outdoorIntervals: mergeIntervals(phases.filter((p) => p.outdoor).map((p) => [p.t0, p.t0 + p.durationS] as const)),
+    // The last phase is open-ended (a sample exactly at the end of the run belongs to it).
+    outdoorIntervals: mergeIntervals(
+      phases.filter((p) => p.outdoor).map((p) => [p.t0, p === phases[phases.length - 1] ? Number.POSITIVE_INFINITY : p.t0 + p.durationS] as const),
+    ),
     evaluateEuler: makeEvaluator(phases, phaseStarts, opt.vibration),
   };
 }

@@ -46,7 +46,7 @@ export function createHandheldMotion(durationS: number, rng: Rng, opt: HandheldO
   const model: MotionModel = {
     durationS,
     pathLengthM: 0,
-    outdoorIntervals: [[0, durationS]],
+    outdoorIntervals: [[0, Number.POSITIVE_INFINITY]],
     evaluateEuler(tRel: number, out: EulerKinematics): EulerKinematics {
       // Envelope w(t) = S((t − rest)/ramp)·S((tEnd − t)/ramp) with its first two derivatives.
       smoothstep(env, (tRel - REST_S) / RAMP_S);

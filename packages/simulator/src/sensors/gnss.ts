@@ -48,7 +48,8 @@ export function planMultipath(s: Scenario): MultipathEvent[] {
   if (s.spec.noise !== 'realistic') return [];
   const rng = createRng(s.spec.seed, 'multipath');
   const out: MultipathEvent[] = [];
-  for (const [a, b] of s.motion.outdoorIntervals) {
+  for (const [a, bOpen] of s.motion.outdoorIntervals) {
+    const b = Math.min(bOpen, s.spec.durationS);
     for (let t = a + 10 + rng.range(0, 90); t < b - 10; t += 60 + rng.range(0, 60)) {
       const m = rng.range(1.5, 4), dir = rng.range(0, 2 * Math.PI);
       out.push({ tStartS: t, tEndS: t + rng.range(1, 3), offsetEnu: [m * Math.cos(dir), m * Math.sin(dir), 0.5 * m * rng.gauss()] });

@@ -82,12 +82,19 @@ export function createOdometryGenerator(s: Scenario): OdometryGenerator {
     quat.multiply(qTrue, conjW, qTrue);
   }
 
+  /** Latches the true distance travelled when each linear drift starts (before the current step is added). */
+  function latchLinearStarts(tRel: number): void {
+    for (let i = 0; i < linear.length; i++) {
+      if (tRel >= (linear[i]!.startS ?? 0) && Number.isNaN(distAtLinearStart[i]!)) distAtLinearStart[i] = dist;
+    }
+  }
+
+  /** Scale at tRel, with `dist` including the current step. */
   function scaleAt(tRel: number): number {
     let sc = spec.scale;
     for (let i = 0; i < linear.length; i++) {
       const f = linear[i]!;
       if (tRel < (f.startS ?? 0)) continue;
-      if (Number.isNaN(distAtLinearStart[i]!)) distAtLinearStart[i] = dist;
       sc *= 1 + (f.magnitude / 100) * ((dist - distAtLinearStart[i]!) / 100);
     }
     for (const f of steps) if (tRel >= (f.startS ?? 0)) sc *= 1 + f.magnitude / 100;
@@ -110,6 +117,7 @@ export function createOdometryGenerator(s: Scenario): OdometryGenerator {
           vec3.sub(d, pTrue, pPrev);
           const len = vec3.norm(d);
           const turn = quat.angleBetween(qPrev, qTrue);
+          latchLinearStarts(tRel);
           dist += len;
           scaleErr += sigScaleRw * Math.sqrt(len) * g();
           yawDrift += yawDriftPerM * len + sigYaw * Math.sqrt(len + 0.2 * turn) * g();
