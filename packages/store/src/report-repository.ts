@@ -1,6 +1,6 @@
 import type { Report, Severity } from '@plumbline/contracts';
-import { isoNow, priorityOf } from './rows.ts';
-import type { Db, RecordOutcome, ReportRepository, StoredReportInfo } from './types.ts';
+import { RUN_COLUMNS, isoNow, priorityOf, toRunSummary, type RunRow } from './rows.ts';
+import type { Db, RecordOutcome, ReportRepository, StoredReportInfo, WithinTransaction } from './types.ts';
 
 const SEVERITY_ORDER: Severity[] = ['info', 'warn', 'critical'];
 
@@ -57,7 +57,9 @@ export function createReportRepository(db: Db): ReportRepository {
      FROM reports WHERE run = ? ORDER BY id DESC`,
   );
 
-  const record = db.transaction((runId: string, report: Report, jobKey: string): RecordOutcome => {
+  const summary = db.prepare(`SELECT ${RUN_COLUMNS} FROM runs WHERE id = ?`);
+
+  const record = db.transaction((runId: string, report: Report, jobKey: string, opts: WithinTransaction): RecordOutcome => {
     const run = runState.get(runId) as { status: string; job_key: string | null; decision: string | null } | undefined;
     if (!run) return { recorded: false, reason: 'not-found' };
     if (byJobKey.get(jobKey) !== undefined) return { recorded: false, reason: 'already-recorded' };
@@ -86,11 +88,12 @@ export function createReportRepository(db: Db): ReportRepository {
       runId,
     );
     audit.run(now, runId, JSON.stringify({ report_id: reportId, job_key: jobKey, score: report.score, verdict: report.verdict }));
+    opts.within?.(toRunSummary(summary.get(runId) as RunRow));
     return { recorded: true, reportId };
   });
 
   return {
-    recordAnalysis: (runId, report, jobKey) => record(runId, report, jobKey),
+    recordAnalysis: (runId, report, jobKey, opts = {}) => record(runId, report, jobKey, opts),
     current(runId) {
       const text = currentJson.get(runId) as string | undefined;
       return text === undefined ? null : (JSON.parse(text) as Report);

@@ -100,6 +100,36 @@ describe('reports.recordAnalysis', () => {
   });
 });
 
+describe('writes with a callback inside the transaction', () => {
+  it('queues the webhook delivery together with the recorded analysis, and rolls both back on a throw', () => {
+    store.webhooks.create({ url: 'https://ops.saltmarsh.example/hooks', events: ['run.analysed', 'run.reviewed'], secret: 's'.repeat(20) });
+    const { run } = store.runs.create(runInput(1));
+    const t1 = store.runs.requestAnalysis(run.id)!;
+    expect(() =>
+      store.reports.recordAnalysis(run.id, report({ score: 70, verdict: 'sound' }), t1.job_key, {
+        within: () => {
+          throw new Error('disk full');
+        },
+      }),
+    ).toThrow('disk full');
+    expect(store.runs.get(run.id)).toMatchObject({ status: 'queued', score: null });
+    expect(store.reports.history(run.id)).toHaveLength(0);
+    const seen: string[] = [];
+    const outcome = store.reports.recordAnalysis(run.id, report({ score: 70, verdict: 'sound' }), t1.job_key, {
+      within: (summary) => {
+        seen.push(`${summary.status}:${summary.score}`);
+        store.webhooks.enqueueEvent('run.analysed', { run: summary });
+      },
+    });
+    expect(outcome.recorded).toBe(true);
+    expect(seen).toEqual(['done:70']);
+    store.reviews.add(run.id, { decision: 'accept', note: '', flags: [] }, 'lead-ana', {
+      within: (summary) => void store.webhooks.enqueueEvent('run.reviewed', { decision: summary.decision }),
+    });
+    expect(store.stats().webhook_deliveries_pending).toBe(2);
+  });
+});
+
 describe('reviews', () => {
   it('stores the review, sets the decision, clears priority and audits it', () => {
     const { run } = store.runs.create(runInput(1));

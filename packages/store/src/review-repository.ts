@@ -1,7 +1,7 @@
 import type { FlagReview, Review, RunDecision } from '@plumbline/contracts';
 import { NotFoundError } from './errors.ts';
-import { isoNow, priorityOf, type RunRow } from './rows.ts';
-import type { Db, ReviewRepository } from './types.ts';
+import { RUN_COLUMNS, isoNow, priorityOf, toRunSummary, type RunRow } from './rows.ts';
+import type { Db, ReviewRepository, WithinTransaction } from './types.ts';
 
 interface ReviewRow {
   id: number;
@@ -36,18 +36,23 @@ export function createReviewRepository(db: Db): ReviewRepository {
   const audit = db.prepare(`INSERT INTO audit_log (at, actor, action, subject, detail_json) VALUES (?, ?, 'run.reviewed', ?, ?)`);
   const byRun = db.prepare('SELECT id, run, decision, note, flags_json, reviewer, created_at FROM reviews WHERE run = ? ORDER BY id');
 
-  const add = db.transaction((runId: string, input: { decision: RunDecision; note: string; flags: FlagReview[] }, reviewer: string) => {
+  const summary = db.prepare(`SELECT ${RUN_COLUMNS} FROM runs WHERE id = ?`);
+
+  type Input = { decision: RunDecision; note: string; flags: FlagReview[] };
+  const add = db.transaction((runId: string, input: Input, reviewer: string, opts: WithinTransaction) => {
     const run = runState.get(runId) as Pick<RunRow, 'status' | 'worst_severity'> | undefined;
     if (!run) throw new NotFoundError('run', runId);
     const now = isoNow();
     const row = insert.get(runId, input.decision, input.note, JSON.stringify(input.flags), reviewer, now) as ReviewRow;
     decide.run(input.decision, now, priorityOf(run.status, input.decision, run.worst_severity), runId);
     audit.run(now, reviewer, runId, JSON.stringify({ review_id: row.id, decision: input.decision, flags: input.flags.length }));
+    opts.within?.(toRunSummary(summary.get(runId) as RunRow));
     return toReview(row);
   });
 
   return {
-    add: (runId, input, reviewer) => add(runId, { decision: input.decision, note: input.note ?? '', flags: input.flags ?? [] }, reviewer),
+    add: (runId, input, reviewer, opts = {}) =>
+      add(runId, { decision: input.decision, note: input.note ?? '', flags: input.flags ?? [] }, reviewer, opts),
     list: (runId) => (byRun.all(runId) as ReviewRow[]).map(toReview),
   };
 }

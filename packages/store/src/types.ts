@@ -104,6 +104,15 @@ export interface RunRepository {
   pendingTickets(limit?: number): AnalysisTicket[];
 }
 
+/**
+ * A callback run inside the same transaction, after the write and only if it happened, with the updated run
+ * summary — e.g. to queue the `run.analysed` / `run.reviewed` webhook deliveries so that the event is stored
+ * together with the fact (no lost event if the process dies in between). Throwing rolls everything back.
+ */
+export interface WithinTransaction {
+  within?: (run: RunSummary) => void;
+}
+
 export interface StoredReportInfo {
   id: number;
   run: string;
@@ -123,7 +132,7 @@ export interface ReportRepository {
    * segments, the run summary fields (score, verdict, worst severity, flag counts, priority), status `done`, and an
    * audit entry. A second call with the same key returns `{ recorded: false, reason: 'already-recorded' }`.
    */
-  recordAnalysis(runId: string, report: Report, jobKey: string): RecordOutcome;
+  recordAnalysis(runId: string, report: Report, jobKey: string, opts?: WithinTransaction): RecordOutcome;
   /** The current report of a run, or null. */
   current(runId: string): Report | null;
   /** All reports of a run, newest first (metadata only). */
@@ -135,7 +144,7 @@ export interface ReportRepository {
 export interface ReviewRepository {
   /** Stores a review, sets the run's decision and reviewed_at, recomputes priority, appends an audit entry
    *  (`run.reviewed`), all in one transaction. Throws NotFoundError for an unknown run. */
-  add(runId: string, input: ReviewInput, reviewer: string): Review;
+  add(runId: string, input: ReviewInput, reviewer: string, opts?: WithinTransaction): Review;
   /** Reviews of a run, oldest first. */
   list(runId: string): Review[];
 }
