@@ -6,9 +6,10 @@ import { se3Edge, planarEdge } from './pose-graph-edges.ts';
  *
  * Method: optimise with every candidate loop under a Huber kernel (threshold √gate), then test each loop's
  * innovation — its residual at the optimum — against the covariance of the loop measurement plus the odometry
- * uncertainty accumulated along the path between its ends: χ² = |r_t|²/(σ_loop,t² + σ_path,t²) +
- * |r_φ|²/(σ_loop,φ² + σ_path,φ²). A loop with χ² above the gate (the 1 − α point of χ² with the edge's degrees of
- * freedom: 6 in SE(3), 3 planar) is excluded, the worst first, and the graph is re-solved from the odometry
+ * drift allowed over the path between its ends: χ² = |r_t|²/(σ_loop,t² + (p_t·L)²) + |r_φ|²/(σ_loop,φ² + (p_φ·L)²),
+ * with L the odometry path length between the loop ends and p_t, p_φ drift rates (drift is systematic, so it grows
+ * with L, not √L). A loop with χ² above its gate (the 1 − α point of χ² with the edge's degrees of freedom: 6 in
+ * SE(3), 3 planar, fewer for translation-only loops) is excluded, the worst first, and the graph is re-solved from the odometry
  * until no remaining loop fails (the switching/"gating" scheme of E. Olson, "Recognizing places using spectrally
  * clustered local matches", RAS 2009, in its simple χ²-test form; Grisetti et al. 2010 for the graph).
  */
@@ -16,11 +17,13 @@ export interface GatingInput {
   graph: PoseGraph;
   /** Edge indices of loop edges (the rest are odometry). */
   loopEdges: Int32Array;
-  /** Cumulative odometry variance along the keyframe chain, per node: translation m², rotation rad². */
-  cumVarT: Float64Array;
-  cumVarR: Float64Array;
-  /** χ² gate for the graph's degrees of freedom. */
-  gate: number;
+  /** Odometry path length at each node, metres. */
+  cumLen: Float64Array;
+  /** Drift allowed: translation as a fraction of path length, rotation in rad per metre. */
+  driftT: number;
+  driftRRadPerM: number;
+  /** χ² gate per loop edge (same order as loopEdges). */
+  gates: Float64Array;
   maxRounds?: number;
 }
 
@@ -37,13 +40,14 @@ export interface GatingResult {
 
 const r = new Float64Array(6), Ji = new Float64Array(36), Jj = new Float64Array(36);
 
-function innovationChi2(g: PoseGraph, e: number, cumVarT: Float64Array, cumVarR: Float64Array): number {
+function innovationChi2(g: PoseGraph, e: number, input: GatingInput): number {
   const a = g.from[e]!, b = g.to[e]!;
   if (g.mode === 'se3') se3Edge(g.R, g.t, a, b, g.measR, e * 9, g.measT, e * 3, r, Ji, Jj);
   else planarEdge(g.s, a, b, g.measP, e * 3, r, Ji, Jj);
   const nt = g.mode === 'se3' ? 3 : 2, d = graphDim(g);
-  const varT = 1 / g.infoT[e]! + Math.abs(cumVarT[b]! - cumVarT[a]!);
-  const varR = 1 / g.infoR[e]! + Math.abs(cumVarR[b]! - cumVarR[a]!);
+  const L = Math.abs(input.cumLen[b]! - input.cumLen[a]!);
+  const varT = 1 / g.infoT[e]! + (input.driftT * L) ** 2;
+  const varR = 1 / g.infoR[e]! + (input.driftRRadPerM * L) ** 2;
   let ct = 0, cr = 0;
   for (let k = 0; k < nt; k++) ct += r[k]! ** 2;
   for (let k = nt; k < d; k++) cr += r[k]! ** 2;
@@ -51,16 +55,15 @@ function innovationChi2(g: PoseGraph, e: number, cumVarT: Float64Array, cumVarR:
 }
 
 export function gateLoops(input: GatingInput): GatingResult {
-  const { graph: g, loopEdges, gate } = input;
+  const { graph: g, loopEdges, gates } = input;
   const maxRounds = input.maxRounds ?? 12;
   const solver = createPoseGraphSolver(g);
   const init = { R: Float64Array.from(g.R), t: Float64Array.from(g.t), s: Float64Array.from(g.s) };
   const L = loopEdges.length;
   const chi2 = new Float64Array(L);
   const accepted = new Uint8Array(L).fill(1);
-  const k = Math.sqrt(gate);
   for (let i = 0; i < L; i++) {
-    g.huber[loopEdges[i]!] = k;
+    g.huber[loopEdges[i]!] = Math.sqrt(gates[i]!);
     g.active[loopEdges[i]!] = 1;
   }
   let rounds = 0, iterations = 0;
@@ -73,13 +76,13 @@ export function gateLoops(input: GatingInput): GatingResult {
     if (!res.ok) return { ok: false, reason: res.reason, chi2, accepted, rounds, iterations, solver };
     let worst = -1;
     for (let i = 0; i < L; i++) {
-      chi2[i] = innovationChi2(g, loopEdges[i]!, input.cumVarT, input.cumVarR);
-      if (accepted[i] && chi2[i]! > gate && (worst < 0 || chi2[i]! > chi2[worst]!)) worst = i;
+      chi2[i] = innovationChi2(g, loopEdges[i]!, input);
+      if (accepted[i] && chi2[i]! > gates[i]! && (worst < 0 || chi2[i]! / gates[i]! > chi2[worst]! / gates[worst]!)) worst = i;
     }
     if (worst < 0) break;
     // Exclude the worst, and any loop that is an order of magnitude beyond the gate, then re-solve.
     for (let i = 0; i < L; i++) {
-      if (accepted[i] && (i === worst || chi2[i]! > 10 * gate)) {
+      if (accepted[i] && (i === worst || chi2[i]! > 10 * gates[i]!)) {
         accepted[i] = 0;
         g.active[loopEdges[i]!] = 0;
       }

@@ -80,9 +80,10 @@ for (const mode of ['planar', 'se3'] as const) {
       const e = g.m - 1;
       if (mode === 'se3') g.measT.set([0, 0, 0], e * 3);
       else g.measP.set([0, 0, 0], e * 3);
-      const cum = new Float64Array(g.n);
-      for (let k = 1; k < g.n; k++) cum[k] = cum[k - 1]! + 1 / 100;
-      const res = gateLoops({ graph: g, loopEdges: Int32Array.of(g.m - 2, g.m - 1), cumVarT: cum, cumVarR: cum, gate });
+      const cumLen = Float64Array.from({ length: g.n }, (_, k) => k);
+      const res = gateLoops({
+        graph: g, loopEdges: Int32Array.of(g.m - 2, g.m - 1), cumLen, driftT: 0.03, driftRRadPerM: 0.001, gates: Float64Array.of(gate, gate),
+      });
       expect(res.ok).toBe(true);
       expect(Array.from(res.accepted)).toEqual([1, 0]);
       expect(res.chi2[1]!).toBeGreaterThan(gate);
