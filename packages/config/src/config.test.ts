@@ -68,7 +68,7 @@ describe('loadConfig errors', () => {
 describe('configReference', () => {
   it('lists every variable once', () => {
     const table = configReference();
-    expect(table.match(/^\| `PLUMBLINE_/gm)?.length).toBe(12);
+    expect(table.match(/^\| `PLUMBLINE_/gm)?.length).toBe(13);
     expect(table).toContain('| `REDIS_URL` | (unset) |');
     expect(table).toContain('| `PLUMBLINE_PORT` | `8640` |');
   });

@@ -31,6 +31,7 @@ export const CONFIG_VARIABLES = {
   PLUMBLINE_POLICY_FILE: z.string().min(1).optional().describe('JSON file with analysis policy overrides; unset = built-in policy'),
   PLUMBLINE_DEMO: boolFlag.default(false).describe('demo mode: create tokens and load seed-runs/ at start (1/0, true/false)'),
   PLUMBLINE_PUBLIC_URL: z.url().optional().describe('base URL clients use to reach the API, e.g. https://plumbline.example.net'),
+  PLUMBLINE_TOKEN: z.string().min(8).optional().describe('API token used by `plumbline push` when --token is not given (never logged)'),
   PLUMBLINE_CORS_ORIGINS: z
     .string()
     .default('')
@@ -58,6 +59,8 @@ export interface Config {
   readonly demo: boolean;
   readonly publicUrl: string | null;
   readonly corsOrigins: readonly string[];
+  /** Client-side: the token `plumbline push` sends. */
+  readonly token: string | null;
 }
 
 /** Start-up configuration error; the message names the variable, the value seen and what was expected. */
@@ -83,7 +86,7 @@ export function loadConfig(env: Readonly<Record<string, string | undefined>> = p
     const r = (schema as z.ZodType).safeParse(value);
     if (!r.success) {
       const why = r.error.issues.map((i) => i.message).join('; ');
-      const shown = value === undefined ? 'unset' : JSON.stringify(value.length > 80 ? `${value.slice(0, 80)}…` : value);
+      const shown = value === undefined ? 'unset' : name === 'PLUMBLINE_TOKEN' ? '(hidden)' : JSON.stringify(value.length > 80 ? `${value.slice(0, 80)}…` : value);
       throw new ConfigError(name, `${name} is ${shown}: expected ${schema.description ?? 'a valid value'} (${why})`);
     }
     out[name] = r.data;
@@ -109,6 +112,7 @@ function toConfig(p: Parsed): Config {
     policyFile: p.PLUMBLINE_POLICY_FILE ? resolve(p.PLUMBLINE_POLICY_FILE) : null,
     demo: p.PLUMBLINE_DEMO,
     publicUrl: p.PLUMBLINE_PUBLIC_URL ?? null,
+    token: p.PLUMBLINE_TOKEN ?? null,
     corsOrigins: Object.freeze(
       p.PLUMBLINE_CORS_ORIGINS.split(',')
         .map((s) => s.trim())

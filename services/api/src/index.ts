@@ -2,3 +2,4 @@ export { buildApp, type AppDeps, type Clock, type InspectBundle, type Trajectory
 export { createLogger } from './logger.ts';
 export { requestAnalysis } from './ingest.ts';
 export { createServiceMetrics, type ServiceMetrics } from './metrics.ts';
+export { openResources, startServer, DEFAULT_DASHBOARD_DIR, type ApiResources } from './server.ts';
