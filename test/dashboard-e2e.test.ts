@@ -230,6 +230,7 @@ describe.skipIf(!haveBrowser)('dashboard end to end', () => {
     expect(reviews[0]!.decision).toBe('accept-trimmed');
     expect(reviews[0]!.note).toBe('cut the drifting aisle stretch');
     expect(reviews[0]!.flags).toEqual([{ flag_id: firstFlag, disposition: 'upheld' }]);
+    expect(await page.textContent('.run-decision')).toContain('Accept trimmed');
     await page.click('details:has(ul.audit) summary');
     expect(await page.textContent('ul.audit')).toContain('run.reviewed');
   });

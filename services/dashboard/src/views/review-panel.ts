@@ -30,7 +30,7 @@ function auditItem(a: AuditEntry): HTMLElement {
 }
 
 /** Decision, note and save; then the run's previous reviews and its audit history (both reloaded after saving). */
-export function renderReviewPanel(ctx: AppContext, runId: string, draft: ReviewDraft, reviews: Review[], audit: AuditEntry[]): ReviewPanel {
+export function renderReviewPanel(ctx: AppContext, runId: string, draft: ReviewDraft, reviews: Review[], audit: AuditEntry[], onSaved: (r: Review) => void = () => {}): ReviewPanel {
   const radios = new Map<RunDecision, HTMLInputElement>();
   const choices = h(
     'fieldset',
@@ -70,7 +70,7 @@ export function renderReviewPanel(ctx: AppContext, runId: string, draft: ReviewD
       const saved = await ctx.api.postReview(runId, body.input);
       result.textContent = `✓ Saved review #${saved.id}: ${DECISION_STYLE[saved.decision].label}. Press j for the next run.`;
       result.dataset.kind = 'ok';
-      ctx.announce(`Review saved for ${runId}`);
+      onSaved(saved);
       const [rs, as] = await Promise.all([ctx.api.run(runId).then((d) => d.reviews), ctx.api.audit(runId)]);
       showHistory(rs, as);
     } catch (err) {

@@ -1,4 +1,4 @@
-import type { Report, RunDetail, RunDecision } from '@plumbline/contracts';
+import type { Report, Review, RunDetail, RunDecision } from '@plumbline/contracts';
 import { createTimeCursor } from '../charts/cursor.ts';
 import { createMapView } from '../charts/map-view.ts';
 import type { AppContext, View } from '../app-context.ts';
@@ -6,7 +6,7 @@ import { h } from '../dom.ts';
 import { DECISION_STYLE, fmtDistance, fmtDuration, fmtTimestamp } from '../format.ts';
 import { severityBadge, verdictBadge } from './badges.ts';
 import { renderEstimates } from './estimates.ts';
-import { rememberOpened } from './queue-view.ts';
+import { filterFromParams, rememberOpened } from './queue-view.ts';
 import { createDraft } from './review-draft.ts';
 import { renderReviewPanel } from './review-panel.ts';
 import { renderFlagList } from './run-flags.ts';
@@ -68,7 +68,7 @@ function header(detail: RunDetail): HTMLElement {
       h('dt', {}, 'Started'), h('dd', {}, fmtTimestamp(s.started_at)),
       h('dt', {}, 'Duration'), h('dd', {}, fmtDuration(s.duration_s)),
       h('dt', {}, 'Distance'), h('dd', {}, fmtDistance(s.distance_m)),
-      h('dt', {}, 'Status'), h('dd', {}, decided),
+      h('dt', {}, 'Status'), h('dd', { class: 'run-decision' }, decided),
     ),
   );
 }
@@ -76,7 +76,7 @@ function header(detail: RunDetail): HTMLElement {
 /** The run page: map + linked plots on the left; caution, flags and review on the right; estimates below. */
 export async function renderRun(ctx: AppContext, id: string): Promise<View> {
   rememberOpened(id);
-  const [detail, audit] = await Promise.all([ctx.api.run(id), ctx.api.audit(id).catch(() => [])]);
+  const [detail, audit] = await Promise.all([ctx.api.run(id), ctx.api.audit(id).catch(() => []), loadQueueIfEmpty(ctx)]);
   const report = detail.report;
   const caution = h('p', { class: 'caution', role: 'note' }, h('strong', {}, '⚠ Caution: '), CAUTION);
   const pos = ctx.queue.indexOf(id);
@@ -92,11 +92,17 @@ export async function renderRun(ctx: AppContext, id: string): Promise<View> {
   const where = pos >= 0 ? `run ${pos + 1} of ${ctx.queue.length} in the queue` : 'not in the current queue';
   const nav = h('p', { class: 'muted small run-nav' }, h('a', { href: ctx.queueHash }, '← queue'), ` · ${where} · j/k next/previous · ? keys`);
 
+  let el: HTMLElement = h('section');
   const draft = createDraft(report ? report.flags.map((f) => f.id) : []);
-  const panel = renderReviewPanel(ctx, id, draft, detail.reviews, audit);
+  const onSaved = (r: Review): void => {
+    const dd = el.querySelector('.run-decision');
+    if (dd) dd.textContent = `${DECISION_STYLE[r.decision].label} (${fmtTimestamp(r.created_at)})`;
+    ctx.announce(`Review saved: ${detail.summary.robot_id} · ${detail.summary.run_id}`);
+  };
+  const panel = renderReviewPanel(ctx, id, draft, detail.reviews, audit, onSaved);
   if (!report) {
     const why = detail.summary.status_reason ? `: ${detail.summary.status_reason}` : '';
-    const el = h('section', { class: 'run' }, nav, header(detail), caution, h('p', { class: 'card' }, `No report yet (status ${detail.summary.status}${why}).`), panel.el);
+    el = h('section', { class: 'run' }, nav, header(detail), caution, h('p', { class: 'card' }, `No report yet (status ${detail.summary.status}${why}).`), panel.el);
     return { el, onKey: (ev) => runKeys(ev, { step, panel, flags: null, back: () => ctx.navigate(ctx.queueHash) }) };
   }
 
@@ -106,8 +112,19 @@ export async function renderRun(ctx: AppContext, id: string): Promise<View> {
   const mapCard = h('section', { class: 'card map-card' }, h('h2', {}, 'Map ', h('span', { class: 'muted small' }, '(top-down, odometry frame · drag to pan, wheel to zoom, double-click to fit)')), createMapView(report, cursor, mapHeight), legend(report));
   const plotCard = h('section', { class: 'card' }, h('h2', {}, 'Signals over run time ', h('span', { class: 'muted small' }, '(hover or click to follow one moment on the map and every plot; hatched = flagged)')), renderPlots(report, cursor));
   const side = h('aside', { class: 'run-side' }, caution, h('section', { class: 'card' }, h('h2', {}, `Flags (${report.flags.length})`), flags.el), panel.el, renderEstimates(report), downloads(ctx, detail));
-  const el = h('section', { class: 'run' }, nav, header(detail), h('div', { class: 'run-grid' }, h('div', { class: 'run-main' }, mapCard, plotCard), side));
+  el = h('section', { class: 'run' }, nav, header(detail), h('div', { class: 'run-grid' }, h('div', { class: 'run-main' }, mapCard, plotCard), side));
   return { el, onKey: (ev) => runKeys(ev, { step, panel, flags, back: () => ctx.navigate(ctx.queueHash) }) };
+}
+
+/** A run opened straight from a link still gets j/k: load the default queue (open runs by priority) once. */
+async function loadQueueIfEmpty(ctx: AppContext): Promise<void> {
+  if (ctx.queue.length > 0) return;
+  try {
+    const page = await ctx.api.listRuns(filterFromParams(new URLSearchParams()));
+    ctx.queue = page.items.map((r) => r.id);
+  } catch {
+    // The run page works without queue order; j/k then report the end of the queue.
+  }
 }
 
 interface RunKeyTargets {
