@@ -13,7 +13,7 @@ export interface CusumAlarm {
 
 /**
  * Two-sided tabular CUSUM (E. S. Page, "Continuous inspection schemes", Biometrika 41, 1954; NIST/SEMATECH
- * e-Handbook §6.3.2.3): S⁺ᵢ = max(0, S⁺ᵢ₋₁ + xᵢ − target − slack), S⁻ᵢ = max(0, S⁻ᵢ₋₁ − xᵢ + target − slack);
+ * e-Handbook, CUSUM control charts — from memory): S⁺ᵢ = max(0, S⁺ᵢ₋₁ + xᵢ − target − slack), S⁻ᵢ = max(0, S⁻ᵢ₋₁ − xᵢ + target − slack);
  * an alarm is raised when either exceeds `threshold`, after which both sums restart. Units of target, slack and
  * threshold are those of the series (common choice: slack = σ/2, threshold = 4–5σ). NaN samples are skipped.
  */

@@ -2,8 +2,8 @@
  * Symmetric eigen-decomposition (cyclic Jacobi) and singular value decomposition (one-sided Jacobi) of small dense
  * row-major matrices. Jacobi methods are slower than QR-based ones but simple and accurate to high relative precision,
  * which suits the ≤ a-few-hundred-column problems here.
- * Method: Golub & Van Loan, "Matrix Computations", 4th ed., 2013, Alg. 8.5.2–8.5.3 (cyclic Jacobi) and §8.6.3
- * (one-sided Jacobi SVD after M. R. Hestenes, J. SIAM 6(1), 1958).
+ * Method: Golub & Van Loan, "Matrix Computations", 4th ed., 2013, ch. 8 (cyclic Jacobi;
+ * one-sided Jacobi SVD after M. R. Hestenes, J. SIAM 6(1), 1958).
  */
 import { norm2 } from './dense-ops.ts';
 

@@ -1,7 +1,7 @@
 /**
  * Cholesky (A = L·Lᵀ) and LU with partial pivoting (P·A = L·U) for small dense square matrices, row-major.
- * Method: G. H. Golub & C. F. Van Loan, "Matrix Computations", 4th ed., 2013, Alg. 4.2.1 (gaxpy Cholesky) and
- * Alg. 3.4.1 (Gaussian elimination with partial pivoting). Failures are values, never exceptions.
+ * Method: G. H. Golub & C. F. Van Loan, "Matrix Computations", 4th ed., 2013, chs. 3–4 (Gaussian elimination with
+ * partial pivoting; gaxpy Cholesky), from memory. Failures are values, never exceptions.
  */
 
 export type FactorResult =

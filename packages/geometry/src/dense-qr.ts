@@ -1,7 +1,7 @@
 /**
  * Linear least squares min‖A·x − b‖₂ by Householder QR, with a condition-number estimate.
- * Method: Golub & Van Loan, "Matrix Computations", 4th ed., 2013, Alg. 5.1.1 (Householder vector) and §5.3.3
- * (QR solution of the full-rank LS problem); condition estimate by Hager's 1-norm estimator (W. W. Hager,
+ * Method: Golub & Van Loan, "Matrix Computations", 4th ed., 2013, ch. 5 (Householder QR solution
+ * of the full-rank LS problem); condition estimate by Hager's 1-norm estimator (W. W. Hager,
  * "Condition estimates", SIAM J. Sci. Stat. Comput. 5(2), 1984; N. J. Higham, ACM TOMS 14(4), 1988).
  */
 

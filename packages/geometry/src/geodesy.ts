@@ -2,7 +2,7 @@
  * WGS-84 geodesy: constants, geodetic ↔ ECEF, ECEF ↔ local East-North-Up at an origin, and normal gravity.
  * Angles are radians unless a name says Deg; heights are ellipsoidal (metres above the WGS-84 ellipsoid).
  * Constants and gravity formulas: NIMA TR8350.2, "Department of Defense World Geodetic System 1984", 3rd ed.
- * (values recalled from memory; b, e² and m are derived here from a, f, ω and GM).
+ * (values, table and equation numbers recalled from memory; b, e² and m are derived here from a, f, ω and GM).
  */
 import type { Mat3 } from './mat3.ts';
 import type { Vec3 } from './vec3.ts';
@@ -69,7 +69,7 @@ export function ecefToGeodetic(out: Vec3, x: number, y: number, z: number): Vec3
 
 /**
  * Rotation taking ECEF vectors into the local East-North-Up frame at (lat, lon): rows are the unit east, north and
- * up vectors in ECEF (standard result, e.g. J. Farrell, "Aided Navigation", 2008, §2.5).
+ * up vectors in ECEF (standard result, e.g. J. Farrell, "Aided Navigation", 2008).
  */
 export function enuRotation(out: Mat3, latRad: number, lonRad: number): Mat3 {
   const sp = Math.sin(latRad), cp = Math.cos(latRad), sl = Math.sin(lonRad), cl = Math.cos(lonRad);

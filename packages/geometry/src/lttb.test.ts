@@ -4,7 +4,7 @@ import { createRng, gaussian } from './testing.ts';
 
 /**
  * Independent transcription of the LTTB pseudo-code in S. Steinarsson, "Downsampling Time Series for Visual
- * Representation", 2013, §4.2 (array-of-points style, halved areas), used as the reference for NaN-free data.
+ * Representation", 2013 (array-of-points style, halved areas), used as the reference for NaN-free data.
  */
 function referenceLttb(points: [number, number][], threshold: number): number[] {
   const n = points.length;

@@ -1,7 +1,7 @@
 /**
  * Largest-Triangle-Three-Buckets downsampling for charts: picks `count` indices of a series (x ascending) that keep
  * its visual shape, spikes included. Method: S. Steinarsson, "Downsampling Time Series for Visual Representation",
- * MSc thesis, University of Iceland, 2013, §4.2 (LTTB): first and last points kept; the rest split into count − 2
+ * MSc thesis, University of Iceland, 2013 (LTTB): first and last points kept; the rest split into count − 2
  * equal buckets; in each bucket the point forming the largest triangle with the previously kept point and the
  * average of the next bucket is kept. O(n), no allocation besides the output.
  *

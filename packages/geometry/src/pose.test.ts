@@ -68,7 +68,7 @@ describe('pose.compose / invert / relative (SE(3) and Sim(3))', () => {
   });
 });
 
-describe('pose.se3Exp / se3Log (Barfoot 2017 §7.1.9)', () => {
+describe('pose.se3Exp / se3Log (Barfoot 2017, ch. 7)', () => {
   it('se3Exp matches the Taylor-series matrix exponential of the twist on 200 random ξ', () => {
     const rng = createRng(24);
     const out = pose.create();

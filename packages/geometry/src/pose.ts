@@ -155,7 +155,7 @@ export function distance(a: Pose, b: Pose): { angleRad: number; translationM: nu
 
 /**
  * SE(3) exponential: tangent ξ = [ρx, ρy, ρz, φx, φy, φz] (translation part first) → pose with R = Exp(φ),
- * t = Jl(φ)·ρ. T. D. Barfoot, "State Estimation for Robotics", 2017, §7.1.9 (eq. 7.85 ff.). Scale is left untouched.
+ * t = Jl(φ)·ρ. T. D. Barfoot, "State Estimation for Robotics", 2017, ch. 7 (from memory). Scale is left untouched.
  */
 export function se3Exp(out: Pose, xi: ArrayLike<number>): Pose {
   sv[0] = xi[3]!;
@@ -172,7 +172,7 @@ export function se3Exp(out: Pose, xi: ArrayLike<number>): Pose {
 
 /**
  * SE(3) logarithm, inverse of se3Exp: φ = Log(R), ρ = Jl⁻¹(φ)·t; writes [ρ, φ] into out[0..5].
- * Barfoot 2017, §7.1.9. Used for pose-graph residuals; the scale of a Sim(3) input is ignored.
+ * Barfoot 2017, ch. 7. Used for pose-graph residuals; the scale of a Sim(3) input is ignored.
  */
 export function se3Log(out: Float64Array, a: Pose): Float64Array {
   quat.toRotationVector(sv, a.q);

@@ -64,7 +64,7 @@ describe('so3.hat / vee', () => {
   });
 });
 
-describe('so3.rightJacobian satisfies Exp(φ + δ) ≈ Exp(φ)·Exp(Jr δ) (Forster et al. 2017, eq. 7)', () => {
+describe('so3.rightJacobian satisfies Exp(φ + δ) ≈ Exp(φ)·Exp(Jr δ) (Forster et al. 2017)', () => {
   it('matches central finite differences on 200 random φ, including tiny angles', () => {
     const rng = createRng(13);
     const jr = mat3.create(), jrInv = mat3.create(), prod = mat3.create();

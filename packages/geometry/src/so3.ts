@@ -1,7 +1,7 @@
 /**
  * The rotation group SO(3) on row-major Mat3 (Float64Array(9)) and rotation vectors φ = axis·angle (rad).
  * Conventions follow C. Forster et al., "On-Manifold Preintegration for Real-Time Visual–Inertial Odometry",
- * IEEE T-RO 33(1), 2017, §III: Exp(φ) = I + sin‖φ‖/‖φ‖ [φ]× + (1 − cos‖φ‖)/‖φ‖² [φ]×², with right Jacobian Jr and the
+ * IEEE T-RO 33(1), 2017 (from memory): Exp(φ) = I + sin‖φ‖/‖φ‖ [φ]× + (1 − cos‖φ‖)/‖φ‖² [φ]×², with right Jacobian Jr and the
  * first-order identity Exp(φ + δφ) ≈ Exp(φ) Exp(Jr(φ) δφ).
  */
 import * as mat3 from './mat3.ts';
@@ -49,7 +49,7 @@ function combine(out: Mat3, phi: Vec3, a: number, b: number, c: number): Mat3 {
   return out;
 }
 
-/** Exponential map (Rodrigues' formula): rotation vector φ (rad) → rotation matrix. Forster et al. 2017, eq. (3). */
+/** Exponential map (Rodrigues' formula): rotation vector φ (rad) → rotation matrix. Forster et al. 2017. */
 export function exp(out: Mat3, phi: Vec3): Mat3 {
   const t2 = phi[0]! * phi[0]! + phi[1]! * phi[1]! + phi[2]! * phi[2]!;
   const t = Math.sqrt(t2);
@@ -68,7 +68,7 @@ export function exp(out: Mat3, phi: Vec3): Mat3 {
 /**
  * Logarithm map: rotation matrix → rotation vector (rad) with angle in [0, π].
  * Goes through the quaternion (Shepperd's pivoting) and atan2, which stays accurate both near the identity, where
- * (tr R − 1)/2 → 1 loses digits, and near π, where the antisymmetric part vanishes. Forster et al. 2017, eq. (4).
+ * (tr R − 1)/2 → 1 loses digits, and near π, where the antisymmetric part vanishes. Forster et al. 2017.
  */
 export function log(out: Vec3, r: Mat3): Vec3 {
   quat.fromMat3(scratchQuat, r);
@@ -83,7 +83,7 @@ export function angle(r: Mat3): number {
 
 /**
  * Right Jacobian of SO(3): Jr(φ) = I − (1 − cos θ)/θ² [φ]× + (θ − sin θ)/θ³ [φ]×², θ = ‖φ‖.
- * Forster et al. 2017, eq. (8); satisfies Exp(φ + δφ) ≈ Exp(φ)·Exp(Jr(φ)·δφ).
+ * Forster et al. 2017; satisfies Exp(φ + δφ) ≈ Exp(φ)·Exp(Jr(φ)·δφ).
  */
 export function rightJacobian(out: Mat3, phi: Vec3): Mat3 {
   const t2 = phi[0]! * phi[0]! + phi[1]! * phi[1]! + phi[2]! * phi[2]!;
@@ -102,7 +102,7 @@ export function rightJacobian(out: Mat3, phi: Vec3): Mat3 {
 
 /**
  * Inverse right Jacobian: Jr⁻¹(φ) = I + ½[φ]× + (1/θ² − (1 + cos θ)/(2θ sin θ)) [φ]×².
- * Forster et al. 2017, eq. (9). Singular at θ = 2π; callers pass angles in [0, π].
+ * Forster et al. 2017. Singular at θ = 2π; callers pass angles in [0, π].
  */
 export function rightJacobianInverse(out: Mat3, phi: Vec3): Mat3 {
   const t2 = phi[0]! * phi[0]! + phi[1]! * phi[1]! + phi[2]! * phi[2]!;

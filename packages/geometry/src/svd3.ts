@@ -1,7 +1,7 @@
 /**
  * Singular value decomposition of a 3×3 matrix without allocation: A = U·diag(s)·Vᵀ, s descending and ≥ 0,
  * U and V orthogonal (each may have determinant −1). Method: one-sided Jacobi (M. R. Hestenes, J. SIAM 6(1), 1958;
- * Golub & Van Loan, "Matrix Computations", 4th ed., §8.6.3) on the three columns, which is accurate for small
+ * Golub & Van Loan, "Matrix Computations", 4th ed., ch. 8) on the three columns, which is accurate for small
  * singular values too; rank-deficient U is completed with cross products.
  */
 import type { Mat3 } from './mat3.ts';

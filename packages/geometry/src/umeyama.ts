@@ -2,7 +2,7 @@
  * Least-squares similarity alignment of two point sets (Umeyama): finds rotation R, translation t and scale c
  * minimising Σ wᵢ‖yᵢ − (c·R·xᵢ + t)‖², i.e. dst ≈ c·R·src + t (e.g. odometry positions onto GNSS ENU positions).
  * Method: S. Umeyama, "Least-squares estimation of transformation parameters between two point patterns",
- * IEEE TPAMI 13(4), 1991, eqs. (34)–(43): SVD of the cross-covariance Σxy = U·D·Vᵀ, R = U·S·Vᵀ with
+ * IEEE TPAMI 13(4), 1991 (from memory): SVD of the cross-covariance Σxy = U·D·Vᵀ, R = U·S·Vᵀ with
  * S = diag(1, 1, det(U)det(V)) guarding against reflections, c = tr(D·S)/σx², t = μy − c·R·μx.
  * For planar and yaw-only problems the rotation has the closed form θ = atan2(Σ₁₀ − Σ₀₁, Σ₀₀ + Σ₁₁), which is the
  * same maximiser of tr(R·Σxyᵀ) restricted to rotations about z. Weighted means/covariances are a direct extension.
@@ -111,7 +111,7 @@ export function umeyama(src: PointColumns, dst: PointColumns, options: UmeyamaOp
   let trDS: number;
   if (three && !options.yawOnly) {
     if (!svd3(su, sd, sv, sigma)) return { ok: false, reason: 'degenerate', n };
-    // Umeyama eq. (43): the rotation is unique when rank(Σxy) ≥ m − 1
+    // Umeyama 1991: the rotation is unique when rank(Σxy) ≥ m − 1
     if (!(sd[1]! > DEGENERATE_REL * sd[0]!) || !(sd[0]! > 0)) return { ok: false, reason: 'degenerate', n };
     const detU = mat3.determinant(su), detV = mat3.determinant(sv);
     const s3 = detU * detV < 0 ? -1 : 1;
@@ -132,7 +132,7 @@ export function umeyama(src: PointColumns, dst: PointColumns, options: UmeyamaOp
   t[0] = my0 - scale * (r[0]! * mx0 + r[1]! * mx1 + r[2]! * mx2);
   t[1] = my1 - scale * (r[3]! * mx0 + r[4]! * mx1 + r[5]! * mx2);
   t[2] = three ? my2 - scale * (r[6]! * mx0 + r[7]! * mx1 + r[8]! * mx2) : 0;
-  // pass 3: residuals summed directly (the closed form σy² − 2c·tr(DS) + c²σx², Umeyama eq. (41), cancels badly
+  // pass 3: residuals summed directly (the closed form σy² − 2c·tr(DS) + c²σx², Umeyama 1991, cancels badly
   // for good fits, leaving only ~1e-8 relative accuracy in the RMS)
   let sse = 0;
   for (let i = 0; i < len; i++) {
