@@ -54,9 +54,9 @@ export function createOdometryGenerator(s: Scenario): OdometryGenerator {
   const rng = createRng(spec.seed, 'odometry');
   const g = () => (real ? rng.gauss() : 0);
   // Drift parameters per run (common practice for VO error budgets).
-  const scaleBias = real ? 0.003 * rng.gauss() : 0;
-  const yawDriftPerM = real ? 1e-4 * rng.gauss() : 0;
-  const sigScaleRw = 4e-4, sigT = 0.002, sigYaw = 4e-4, sigJitter = 3e-4;
+  const scaleBias = real ? 0.006 * rng.gauss() : 0;
+  const yawDriftPerM = real ? 3e-4 * rng.gauss() : 0;
+  const sigScaleRw = 6e-4, sigT = 0.002, sigYaw = 6e-4, sigJitter = 3e-4;
   const linear = s.faults.filter((f) => f.kind === 'scale-drift' && f.variant !== 'step');
   const steps = s.faults.filter((f) => f.kind === 'scale-drift' && f.variant === 'step');
   const jumps = s.faults.filter((f) => f.kind === 'pose-jump');
