@@ -1,6 +1,6 @@
 /**
  * Micro-benchmark of the streaming CSV reader on a synthetic imu.csv (not a test).
- * Usage: node --import tsx packages/bundle/bench/csv-bench.ts [megabytes]
+ * Usage: node --import tsx packages/bundle/bench/csv-bench.ts [megabytes] [time decimals, default 6; 9 = ns stamps]
  */
 import { mkdtemp, rm, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
@@ -8,13 +8,14 @@ import { join } from 'node:path';
 import { readImuCsv } from '../src/index.ts';
 
 const targetMb = Number(process.argv[2] ?? 64);
+const timeDecimals = Number(process.argv[3] ?? 6);
 
 function synthImu(bytes: number): Buffer {
   const parts: string[] = ['t,gx,gy,gz,ax,ay,az\n'];
   let size = parts[0]!.length;
   const t0 = 1_796_000_000;
   for (let i = 0; size < bytes; i++) {
-    const t = (t0 + i * 0.0025).toFixed(6);
+    const t = (t0 + i * 0.0025).toFixed(timeDecimals);
     const s = Math.sin(i * 1e-3);
     const line = `${t},${(0.01 * s).toFixed(7)},${(-0.02 * s).toFixed(7)},${(0.003 + s * 1e-3).toFixed(7)},${(0.12 * s).toFixed(6)},${(-0.05 * s).toFixed(6)},${(9.80665 + 0.1 * s).toFixed(6)}\n`;
     parts.push(line);

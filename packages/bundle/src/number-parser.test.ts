@@ -71,6 +71,18 @@ describe('ByteNumberParser round trip (property)', () => {
       { numRuns: 300 },
     );
   });
+  it('long fixed-point values (integer part + up to 15 fraction digits, e.g. ns timestamps) are correctly rounded', () => {
+    fc.assert(
+      fc.property(fc.integer({ min: 0, max: 2 ** 53 }), fc.integer({ min: 1, max: 15 }), fc.nat(), fc.boolean(), (a, m, f, neg) => {
+        const s = `${neg ? '-' : ''}${a}.${String(f % 10 ** m).padStart(m, '0')}`;
+        expect(Object.is(parse(s).v, Number(s)), s).toBe(true);
+      }),
+      { numRuns: 300 },
+    );
+    for (const s of ['1796000000.123456789', '1796000000.000000001', '4503599627370495.5', '9007199254740991.999999999999999']) {
+      expect(parse(s).v, s).toBe(Number(s));
+    }
+  });
   it('short decimals (fast path) are exact: k-digit integers scaled by 10^-e', () => {
     fc.assert(
       fc.property(fc.integer({ min: -(2 ** 52), max: 2 ** 52 }), fc.integer({ min: 0, max: 22 }), (m, e) => {

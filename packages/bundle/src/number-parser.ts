@@ -40,6 +40,13 @@ export class ByteNumberParser {
     let exp10 = 0;
     let digits = 0;
     let exact = true;
+    // integer and fraction parts kept apart too, for long fixed-point inputs such as nanosecond timestamps
+    let intPart = 0;
+    let intExact = true;
+    let frac = 0;
+    let fracDigits = 0;
+    let fracExact = true;
+    let hasExp = false;
     while (c >= 48 && c <= 57) {
       if (mant <= MANT_GUARD) mant = mant * 10 + (c - 48);
       else exact = false;
@@ -48,6 +55,8 @@ export class ByteNumberParser {
       c = i < end ? buf[i]! : -1;
     }
     if (c === 46) {
+      intPart = mant;
+      intExact = exact;
       i++;
       c = i < end ? buf[i]! : -1;
       while (c >= 48 && c <= 57) {
@@ -55,6 +64,10 @@ export class ByteNumberParser {
           mant = mant * 10 + (c - 48);
           exp10--;
         } else exact = false;
+        if (frac <= MANT_GUARD) {
+          frac = frac * 10 + (c - 48);
+          fracDigits++;
+        } else fracExact = false;
         digits++;
         i++;
         c = i < end ? buf[i]! : -1;
@@ -62,6 +75,7 @@ export class ByteNumberParser {
     }
     if (digits === 0) return this.special(buf, tokenStart, i, end, neg);
     if (c === 101 || c === 69) {
+      hasExp = true;
       i++;
       c = i < end ? buf[i]! : -1;
       let eneg = false;
@@ -86,6 +100,8 @@ export class ByteNumberParser {
     let v: number;
     if (exact && exp10 >= -22 && exp10 <= 22 && mant <= MANT_LIMIT) {
       v = exp10 >= 0 ? mant * POW10[exp10]! : mant / POW10[-exp10]!;
+      if (neg) v = -v;
+    } else if (!hasExp && fracDigits > 0 && intExact && fracExact && fracDigits <= 22 && (v = sumParts(intPart, frac, fracDigits)) === v) {
       if (neg) v = -v;
     } else {
       v = Number(latin1(buf, tokenStart, tokenEnd));
@@ -123,6 +139,35 @@ export class ByteNumberParser {
     this.next = at;
     return Number.NaN;
   }
+}
+
+const F64 = new Float64Array(1);
+const U32 = new Uint32Array(F64.buffer); // little-endian hosts: U32[1] holds sign, exponent, top mantissa bits
+
+/** Spacing of doubles at positive finite x (the spacing above x when x is a power of two); 0 for 0. */
+function ulpOf(x: number): number {
+  if (x === 0) return 0;
+  F64[0] = x;
+  const e = (U32[1]! >>> 20) & 0x7ff;
+  return e === 0 ? 2 ** -1074 : 2 ** (e - 1075);
+}
+
+/**
+ * A + F / 10^m for exact integers A, F ≤ 2^53 and m ≤ 22, correctly rounded, or NaN when that cannot be certified
+ * cheaply. b = F / 10^m is one correctly rounded division; s = A + b with its exact rounding error from TwoSum
+ * (D. E. Knuth, TAOCP vol. 2, §4.2.2). The exact value is s + err + (F/10^m − b) with |F/10^m − b| ≤ ulp(b)/2,
+ * so s is the correctly rounded result whenever |err| + ulp(b)/2 is below half the spacing of doubles at s
+ * (a quarter at a power of two, where the spacing below is half as large). Otherwise the caller falls back.
+ */
+function sumParts(a: number, f: number, m: number): number {
+  const b = f / POW10[m]!;
+  const s = a + b;
+  const bb = s - a;
+  const err = a - (s - bb) + (b - bb);
+  F64[0] = s;
+  const powerOfTwo = U32[0] === 0 && (U32[1]! & 0xfffff) === 0;
+  const limit = ulpOf(s) * (powerOfTwo ? 0.25 : 0.5);
+  return Math.abs(err) + ulpOf(b) * 0.5 < limit ? s : Number.NaN;
 }
 
 /** Returns (length << 4) | kind for nan (kind 1), inf / infinity (kind 2), or 0. Case-insensitive. */
