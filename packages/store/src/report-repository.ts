@@ -93,7 +93,7 @@ export function createReportRepository(db: Db): ReportRepository {
   });
 
   return {
-    recordAnalysis: (runId, report, jobKey, opts = {}) => record(runId, report, jobKey, opts),
+    recordAnalysis: (runId, report, jobKey, opts = {}) => record.immediate(runId, report, jobKey, opts),
     current(runId) {
       const text = currentJson.get(runId) as string | undefined;
       return text === undefined ? null : (JSON.parse(text) as Report);

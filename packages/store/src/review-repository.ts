@@ -52,7 +52,7 @@ export function createReviewRepository(db: Db): ReviewRepository {
 
   return {
     add: (runId, input, reviewer, opts = {}) =>
-      add(runId, { decision: input.decision, note: input.note ?? '', flags: input.flags ?? [] }, reviewer, opts),
+      add.immediate(runId, { decision: input.decision, note: input.note ?? '', flags: input.flags ?? [] }, reviewer, opts),
     list: (runId) => (byRun.all(runId) as ReviewRow[]).map(toReview),
   };
 }

@@ -91,7 +91,9 @@ export function createRunRepository(db: Db): RunRepository {
   };
 
   return {
-    create: (input) => create(input),
+    // IMMEDIATE: read-then-write transactions take the write lock up front, so two processes creating the same run
+    // serialise instead of one failing with SQLITE_BUSY_SNAPSHOT
+    create: (input) => create.immediate(input),
     get,
     findByKey(robotId, runId) {
       const row = byKey.get(robotId, runId) as RunRow | undefined;

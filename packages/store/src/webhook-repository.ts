@@ -81,7 +81,7 @@ export function createWebhookRepository(db: Db): WebhookRepository {
     },
     remove: (id) => deactivate.run(id).changes > 0,
     enqueueEvent: (event, payload, now = new Date()) => enqueueEvent(event, payload, now),
-    claimDue: (now, limit, leaseMs = 60_000) => claimDue(now, limit, leaseMs),
+    claimDue: (now, limit, leaseMs = 60_000) => claimDue.immediate(now, limit, leaseMs),
     markDelivered(id, statusCode) {
       delivered.run(statusCode, id);
     },
