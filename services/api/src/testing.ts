@@ -7,7 +7,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import pino from 'pino';
 import { loadConfig, type Config } from '@plumbline/config';
-import { createBlobStore, createStore, openDatabase, type Db, type Store } from '@plumbline/store';
+import { createBlobStore, createStore, openDatabase, type BlobStore, type Db, type Store } from '@plumbline/store';
 import { createEmbeddedQueue } from '@plumbline/queue';
 import type { JobQueue } from '@plumbline/queue';
 import type { Role } from '@plumbline/contracts';
@@ -16,6 +16,7 @@ import { buildApp, type AppDeps, type Clock } from './app.ts';
 export interface TestApp {
   app: Awaited<ReturnType<typeof buildApp>>;
   store: Store;
+  blobs: BlobStore;
   db: Db;
   queue: JobQueue;
   config: Config;
@@ -28,15 +29,27 @@ export interface TestApp {
 }
 
 export async function createTestApp(
-  opts: { env?: Record<string, string>; deps?: Partial<AppDeps>; robotId?: string; inspectBundle?: AppDeps['inspectBundle'] } = {},
+  opts: {
+    env?: Record<string, string>;
+    deps?: Partial<AppDeps>;
+    robotId?: string;
+    inspectBundle?: AppDeps['inspectBundle'];
+    /** Queue under test; default the embedded queue on the same in-memory database. */
+    makeQueue?: (db: Db) => JobQueue;
+    /** Real time instead of the fixed test clock (end-to-end tests). */
+    clock?: Clock;
+  } = {},
 ): Promise<TestApp> {
   const dir = await mkdtemp(join(tmpdir(), 'plumbline-api-'));
   const config = loadConfig({ PLUMBLINE_DATA_DIR: dir, PLUMBLINE_LOG_LEVEL: 'silent', ...opts.env });
   const db = openDatabase(':memory:');
   const store = createStore(db);
-  const queue = createEmbeddedQueue(db, { pollIntervalMs: 20, backoffMs: 20 });
+  const queue = opts.makeQueue ? opts.makeQueue(db) : createEmbeddedQueue(db, { pollIntervalMs: 20, backoffMs: 20 });
   let nowMs = Date.parse('2026-12-01T08:00:00Z');
-  const clock = { now: () => new Date(nowMs), advance: (ms: number) => void (nowMs += ms) };
+  const clock = opts.clock
+    ? { now: () => opts.clock!.now(), advance: () => undefined }
+    : { now: () => new Date(nowMs), advance: (ms: number) => void (nowMs += ms) };
+  const blobs = createBlobStore(join(dir, 'blobs'));
   const robotId = opts.robotId ?? 'kestrel-01';
   const tokens = {
     robot: store.tokens.create({ role: 'robot', name: robotId, robot_id: robotId }).token,
@@ -51,7 +64,7 @@ export async function createTestApp(
     });
   const app = await buildApp(config, {
     store,
-    blobs: createBlobStore(join(dir, 'blobs')),
+    blobs,
     queue,
     logger: pino({ level: 'silent' }),
     clock,
@@ -62,6 +75,7 @@ export async function createTestApp(
   return {
     app,
     store,
+    blobs,
     db,
     queue,
     config,
