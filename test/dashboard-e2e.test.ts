@@ -138,7 +138,10 @@ describe.skipIf(!haveBrowser)('dashboard end to end', () => {
   it('filters the queue by verdict through the address bar and the form', async () => {
     await page.selectOption('#f-verdict', 'sound');
     await page.waitForFunction(() => location.hash.includes('verdict=sound'));
-    await page.waitForFunction(() => [...document.querySelectorAll('table.runs tbody tr')].every((tr) => tr.textContent?.includes('sound')));
+    await page.waitForFunction(() => {
+      const rows = [...document.querySelectorAll('table.runs tbody tr')];
+      return rows.length > 0 && rows.every((tr) => tr.textContent?.includes('sound'));
+    });
     const n = await page.$$eval('table.runs tbody tr', (trs) => trs.length);
     expect(n).toBe(runs.filter((r) => r.verdict === 'sound').length);
     await page.goto(`${base}/#/queue`);

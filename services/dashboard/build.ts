@@ -1,7 +1,22 @@
-import { build } from 'esbuild';
+import { build, type Plugin } from 'esbuild';
 import { mkdir, rm, writeFile } from 'node:fs/promises';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
+
+/**
+ * The schema library ships messages in some forty languages behind one index module; the dashboard shows API
+ * messages in English only, so the index is replaced by the English locale alone (about 300 kB less to load).
+ */
+const englishOnlyLocales: Plugin = {
+  name: 'english-only-locales',
+  setup(b) {
+    b.onLoad({ filter: /[\\/]zod[\\/]v4[\\/]locales[\\/]index\.js$/ }, (args) => ({
+      contents: "export { default as en } from './en.js';\n",
+      resolveDir: dirname(args.path),
+      loader: 'js',
+    }));
+  },
+};
 
 /**
  * Bundle the dashboard into dist/: index.html, assets/app.js (one ES module, minified, with a source map) and
@@ -23,6 +38,7 @@ export async function buildDashboard(outDir = join(dirname(fileURLToPath(import.
     sourcemap: true,
     legalComments: 'none',
     logLevel: 'warning',
+    plugins: [englishOnlyLocales],
   });
   const html = `<!doctype html>
 <html lang="en">

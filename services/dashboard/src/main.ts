@@ -73,7 +73,11 @@ async function ensureSignedIn(): Promise<boolean> {
   }
 }
 
+let routeSeq = 0;
+
 async function route(): Promise<void> {
+  // A newer navigation supersedes this one: a slow page must not overwrite the page asked for after it.
+  const seq = ++routeSeq;
   current?.dispose?.();
   current = null;
   const hash = location.hash || '#/queue';
@@ -82,26 +86,30 @@ async function route(): Promise<void> {
   const page = parts[0] ?? 'queue';
   header.dataset.signedIn = String(me !== null);
   if (page !== 'login' && !(await ensureSignedIn())) {
-    location.hash = '#/login';
+    if (seq === routeSeq) location.hash = '#/login';
     return;
   }
   header.dataset.signedIn = String(me !== null);
   for (const a of nav.querySelectorAll('a')) a.toggleAttribute('aria-current', a.dataset.nav === page || (page === 'runs' && a.dataset.nav === 'queue'));
   mount(main, h('p', { class: 'loading' }, 'Loading…'));
   try {
+    let view: View;
     if (page === 'login') {
-      current = renderLogin(async (token) => {
+      view = renderLogin(async (token) => {
         saveToken(token);
         me = null;
         if (await ensureSignedIn()) location.hash = '#/queue';
         else throw new Error('The API did not accept this token.');
       });
-    } else if (page === 'runs' && parts[1]) current = await renderRun(ctx, decodeURIComponent(parts[1]));
-    else if (page === 'fleet') current = await renderFleet(ctx);
-    else current = await renderQueue(ctx, new URLSearchParams(query));
-    mount(main, current.el);
+    } else if (page === 'runs' && parts[1]) view = await renderRun(ctx, decodeURIComponent(parts[1]));
+    else if (page === 'fleet') view = await renderFleet(ctx);
+    else view = await renderQueue(ctx, new URLSearchParams(query));
+    if (seq !== routeSeq) return;
+    current = view;
+    mount(main, view.el);
     document.title = `${main.querySelector('h1')?.textContent ?? 'Plumbline'} · Plumbline`;
   } catch (err) {
+    if (seq !== routeSeq) return;
     if (err instanceof ApiError && err.status === 401) {
       signOut(); // token revoked or expired while the page was open
       return;
