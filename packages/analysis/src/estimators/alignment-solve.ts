@@ -101,6 +101,10 @@ export function solveAlignment(rows: AlignmentRows, r0: number, r1: number, spec
     const n = Math.hypot(d[0]!, d[1]!, d[2]!);
     for (let i = 0; i < 3; i++) d[i] = d[i]! / n;
     if (freeB) for (let j = 0; j < 3; j++) ba[j] = ba[j]! + x[iB + j]!;
+    // Converged: one more pass only to refresh H and the residuals at the solution.
+    let step = Math.abs(u0) + Math.abs(u1) + (freeS ? Math.abs(x[0]!) : 0);
+    if (freeB) step += Math.abs(x[iB]!) + Math.abs(x[iB + 1]!) + Math.abs(x[iB + 2]!);
+    if (step < 1e-9) it = iterations - 1;
   }
   const dof = Math.max(1, 3 * (r1 - r0) - np);
   const s2 = (rms * rms * 3 * (r1 - r0)) / dof;

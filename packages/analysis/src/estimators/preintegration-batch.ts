@@ -21,6 +21,7 @@ export interface PreintegrationBatch {
   dq: Float64Array;
   dv: Float64Array;
   dp: Float64Array;
+  /** Zeros when the batch was run without covariance propagation. */
   covDiag: Float64Array;
   dRdBg: Float64Array;
   dVdBg: Float64Array;
@@ -33,7 +34,7 @@ export interface PreintegrationBatch {
 
 export function preintegrateBatch(
   imu: ImuColumns, keyTimes: Float64Array, bg: Float64Array, ba: Float64Array,
-  noise: ImuNoise = DEFAULT_IMU_NOISE, maxGapS?: number,
+  noise: ImuNoise = DEFAULT_IMU_NOISE, maxGapS?: number, withCovariance = true,
 ): PreintegrationBatch {
   const n = Math.max(0, keyTimes.length - 1);
   const out: PreintegrationBatch = {
@@ -43,8 +44,9 @@ export function preintegrateBatch(
     dPdBg: new Float64Array(9 * n), dPdBa: new Float64Array(9 * n), bg: bg.slice(), ba: ba.slice(),
   };
   const maxGap = maxGapS ?? 3 * nominalPeriod(imu.t, imu.n);
-  const qg = noise.gyroNoiseDensity ** 2, qa = noise.accelNoiseDensity ** 2;
   const st = createState();
+  const qg = noise.gyroNoiseDensity ** 2, qa = noise.accelNoiseDensity ** 2;
+  st.covariance = withCovariance;
   const q = quat.create();
   let j = -1;
   for (let k = 0; k < n; k++) {

@@ -23,6 +23,8 @@ export interface PreState {
   vba: Float64Array;
   pbg: Float64Array;
   pba: Float64Array;
+  /** Propagate the covariance (skipped when nobody reads it; the increments and Jacobians are unaffected). */
+  covariance: boolean;
   /** Scratch. */
   s9: Float64Array;
 }
@@ -39,6 +41,7 @@ export function createState(): PreState {
     vba: new Float64Array(9),
     pbg: new Float64Array(9),
     pba: new Float64Array(9),
+    covariance: true,
     s9: new Float64Array(9),
   };
   resetState(st);
@@ -69,7 +72,7 @@ export function step(st: PreState, wx: number, wy: number, wz: number, ax: numbe
   const ux = (r[0]! * ax + r[1]! * ay + r[2]! * az) * h;
   const uy = (r[3]! * ax + r[4]! * ay + r[5]! * az) * h;
   const uz = (r[6]! * ax + r[7]! * ay + r[8]! * az) * h;
-  propagateCovariance(st.cov, ux, uy, uz, h, qg, qa);
+  if (st.covariance) propagateCovariance(st.cov, ux, uy, uz, h, qg, qa);
   updateJacobians(st, ux, uy, uz, h);
   // Position and velocity (Forster eq. 33 in frame i), then rotation ΔR ← ΔR Exp(w h).
   const v = st.v, p = st.p;

@@ -40,8 +40,10 @@ export interface RotationResult {
   /** Gyro bias, rad/s, IMU frame (absolute, i.e. the batch's linearisation bias plus the correction). */
   gyroBiasRadS: Float64Array;
   gyroBiasSigmaRadS: Float64Array;
-  /** 1-sigma of the extrinsic rotation about the IMU axes, rad. */
+  /** 1-sigma of the extrinsic rotation about the axes of the right perturbation X·Exp(δθ) (odometry body axes), rad. */
   rotationSigmaRad: Float64Array;
+  /** 3×3 covariance of the right perturbation X·Exp(δθ), rad². */
+  rotationCov: Float64Array;
   /** Smallest / largest eigenvalue of the information on δθ_X: near 0 when the motion turns about one axis only. */
   observability: number;
   /** Robust σ of a residual component, rad. */
@@ -185,6 +187,7 @@ export function estimateRotation(
     gyroBiasRadS: Float64Array.of(batch.bg[0]! + db[0]!, batch.bg[1]! + db[1]!, batch.bg[2]! + db[2]!),
     gyroBiasSigmaRadS: Float64Array.of(sd(3), sd(4), sd(5)),
     rotationSigmaRad: Float64Array.of(sd(0), sd(1), sd(2)),
+    rotationCov: Float64Array.of(cov[0]!, cov[1]!, cov[2]!, cov[6]!, cov[7]!, cov[8]!, cov[12]!, cov[13]!, cov[14]!),
     observability: ev[2]! > 0 ? ev[0]! / ev[2]! : 0,
     residualSigmaRad: sigma,
     intervals: comp.n,

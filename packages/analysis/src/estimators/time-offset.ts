@@ -100,7 +100,11 @@ function odometryRate(odom: OdometryColumns): OdomRate {
 function gyroMagnitude(imu: ImuColumns, b: ArrayLike<number>, period: number): Float64Array {
   const n = imu.n;
   const raw = new Float64Array(n + 1); // prefix sums
-  for (let i = 0; i < n; i++) raw[i + 1] = raw[i]! + Math.hypot(imu.gx[i]! - b[0]!, imu.gy[i]! - b[1]!, imu.gz[i]! - b[2]!);
+  const b0 = b[0]!, b1 = b[1]!, b2 = b[2]!;
+  for (let i = 0; i < n; i++) {
+    const x = imu.gx[i]! - b0, y = imu.gy[i]! - b1, z = imu.gz[i]! - b2;
+    raw[i + 1] = raw[i]! + Math.sqrt(x * x + y * y + z * z);
+  }
   const fs = (n - 1) / (imu.t[n - 1]! - imu.t[0]!);
   const half = Math.max(0, Math.round((period * fs) / 2));
   const out = new Float64Array(n);

@@ -70,7 +70,7 @@ function gyroRatio(imu: ImuColumns, odom: OdometryColumns, offset: number): numb
     while (j < imu.n && imu.t[j]! < ta) j++;
     let s = 0, m = 0;
     for (let i = j; i < imu.n && imu.t[i]! < tb; i++) {
-      s += Math.hypot(imu.gx[i]!, imu.gy[i]!, imu.gz[i]!);
+      s += Math.sqrt(imu.gx[i]! ** 2 + imu.gy[i]! ** 2 + imu.gz[i]! ** 2);
       m++;
     }
     if (m === 0) continue;
