@@ -5,6 +5,7 @@ import { tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { demoFleet } from './fleet.ts';
+import { writeLongRun } from './io/long-run.ts';
 import { writeRun } from './io/write.ts';
 import { createRng } from './prng.ts';
 import { simulateRun } from './simulate.ts';
@@ -51,6 +52,18 @@ describe('determinism', () => {
     await writeRun(simulateRun(spec), b, { archive: 'tar.gz' });
     expect(hashes(b)).toEqual(hashes(a));
     expect(existsSync(join(a, 'bundle'))).toBe(false);
+  });
+});
+
+describe('streaming writer', () => {
+  it('writeLongRun (chunked generation) writes the same bytes as writeRun for the same spec', async () => {
+    const spec = makeRunSpec({ seed: 8, durationS: 70, imuRateHz: 100, site: 'northgate-yard', faults: [{ kind: 'imu-gap', magnitude: 0, startS: 40.004, endS: 41 }] });
+    const [a, b] = [await tempDir(), await tempDir()];
+    await writeRun(simulateRun(spec), a, { level: 6 });
+    await writeLongRun(spec, b, { level: 6 });
+    const ha = hashes(a);
+    expect(Object.keys(ha)).toContain('bundle/gnss.csv.gz');
+    expect(hashes(b)).toEqual(ha);
   });
 });
 
