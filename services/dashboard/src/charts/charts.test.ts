@@ -75,3 +75,16 @@ describe('map stretches', () => {
     ]);
   });
 });
+
+describe('threshold rules', () => {
+  it('keeps thresholds in the series unit and widens the range to show them', async () => {
+    const { plotThresholds } = await import('./time-plot.ts');
+    const series = { unit: 'ms', t: [0, 1], v: [5, 8] };
+    const f = (threshold: number | null, unit: string) => ({ id: 'x', kind: 'time-offset' as const, severity: 'warn' as const, t_start: 0, t_end: 1, distance_start_m: 0, distance_end_m: 1, value: 38, threshold, unit, message: '', check: '' });
+    const th = plotThresholds(series, [f(20, 'ms'), f(20, 'ms'), f(2, '%'), f(null, 'ms')]);
+    expect(th).toEqual([20]);
+    const [lo, hi] = valueRange(series, th);
+    expect(lo).toBeCloseTo(5 - 15 * 0.08, 12);
+    expect(hi).toBeCloseTo(20 + 15 * 0.08, 12);
+  });
+});

@@ -16,10 +16,17 @@ export interface TimePlotOptions {
 
 const PAD = { left: 56, right: 12, top: 16, bottom: 18 };
 
-/** Robust y-range: the finite values (and sigma band) padded by 8 %; a flat series gets a unit-sized window. */
-export function valueRange(series: Series): [number, number] {
-  let lo = Infinity;
-  let hi = -Infinity;
+/** Thresholds of the shaded flags that are in the series' own unit, so they can be drawn as rules on its axis. */
+export function plotThresholds(series: Series, flags: readonly Flag[]): number[] {
+  const out = new Set<number>();
+  for (const f of flags) if (f.threshold !== null && f.unit === series.unit && series.unit !== '') out.add(f.threshold);
+  return [...out].sort((a, b) => a - b);
+}
+
+/** Y-range: the finite values, sigma band and `extra` levels, padded by 8 %; a flat series gets a unit-sized window. */
+export function valueRange(series: Series, extra: readonly number[] = []): [number, number] {
+  let lo = Math.min(Infinity, ...extra);
+  let hi = Math.max(-Infinity, ...extra);
   for (let i = 0; i < series.v.length; i++) {
     const v = series.v[i];
     if (v === null || v === undefined || !Number.isFinite(v)) continue;
@@ -56,7 +63,8 @@ export function createTimePlot(opts: TimePlotOptions): HTMLElement {
 
   const h = opts.height ?? 110;
   let w = 600;
-  let yr: [number, number] = valueRange(opts.series);
+  const thresholds = plotThresholds(opts.series, opts.flags);
+  let yr: [number, number] = valueRange(opts.series, thresholds);
   const xOf = (t: number): number => PAD.left + ((w - PAD.left - PAD.right) * t) / Math.max(opts.durationS, 1e-9);
   const tOf = (x: number): number => ((x - PAD.left) * opts.durationS) / Math.max(w - PAD.left - PAD.right, 1);
   const yOf = (v: number): number => PAD.top + (h - PAD.top - PAD.bottom) * (1 - (v - yr[0]) / (yr[1] - yr[0]));
@@ -72,6 +80,24 @@ export function createTimePlot(opts: TimePlotOptions): HTMLElement {
     ctx.lineWidth = 1.4;
     ctx.setLineDash([]);
     drawDecimatedLine(ctx, opts.series.t, opts.series.v, xOf, yOf);
+    drawThresholds(ctx);
+  }
+
+  function drawThresholds(ctx: CanvasRenderingContext2D): void {
+    ctx.strokeStyle = '#000';
+    ctx.lineWidth = 1;
+    ctx.setLineDash([2, 4]);
+    ctx.textAlign = 'right';
+    ctx.textBaseline = 'bottom';
+    for (const th of thresholds) {
+      const y = Math.round(yOf(th)) + 0.5;
+      ctx.beginPath();
+      ctx.moveTo(PAD.left, y);
+      ctx.lineTo(w - PAD.right, y);
+      ctx.stroke();
+      haloText(ctx, `threshold ${fmtNum(th)} ${opts.series.unit}`, w - PAD.right - 2, y - 1);
+    }
+    ctx.setLineDash([]);
   }
 
   function drawFlags(ctx: CanvasRenderingContext2D): void {
@@ -184,7 +210,7 @@ export function createTimePlot(opts: TimePlotOptions): HTMLElement {
     const cw = Math.floor(stage.clientWidth);
     if (cw <= 0) return;
     w = cw;
-    yr = valueRange(opts.series);
+    yr = valueRange(opts.series, thresholds);
     drawBase();
     drawOverlay();
   }
