@@ -28,7 +28,7 @@ export const CONFIG_VARIABLES = {
   PLUMBLINE_MAX_UPLOAD_BYTES: positiveInt.default(2 * 1024 ** 3).describe('largest accepted bundle in bytes (default 2 GiB)'),
   PLUMBLINE_UPLOAD_RATE_PER_MIN: positiveInt.default(30).describe('uploads (runs, upload sessions) allowed per token per minute'),
   PLUMBLINE_AUTH_FAILURE_RATE_PER_MIN: positiveInt.default(20).describe('failed authentications allowed per client address per minute'),
-  PLUMBLINE_POLICY_FILE: z.string().min(1).optional().describe('JSON file with analysis policy overrides; unset = built-in policy'),
+  PLUMBLINE_POLICY_FILE: z.string().min(1).optional().describe('triage policy JSON file (name, version, thresholds, overrides); unset = built-in policy'),
   PLUMBLINE_DEMO: boolFlag.default(false).describe('demo mode: create tokens and load seed-runs/ at start (1/0, true/false)'),
   PLUMBLINE_PUBLIC_URL: z.url().optional().describe('base URL clients use to reach the API, e.g. https://plumbline.example.net'),
   PLUMBLINE_TOKEN: z.string().min(8).optional().describe('API token used by `plumbline push` when --token is not given (never logged)'),
@@ -125,7 +125,7 @@ function toConfig(p: Parsed): Config {
 export function configReference(): string {
   const rows = Object.entries(CONFIG_VARIABLES).map(([name, schema]) => {
     const r = (schema as z.ZodType).safeParse(undefined);
-    const def = r.success && r.data !== undefined ? `\`${String(r.data)}\`` : '(unset)';
+    const def = !r.success || r.data === undefined ? '(unset)' : r.data === '' ? '(empty)' : `\`${String(r.data)}\``;
     return `| \`${name}\` | ${def} | ${schema.description ?? ''} |`;
   });
   return ['| variable | default | meaning |', '| --- | --- | --- |', ...rows].join('\n');
