@@ -47,7 +47,7 @@ describe('embedded queue across processes', () => {
       expect(ids).toHaveLength(60);
       expect(new Set(ids).size).toBe(60);
       expect(lines.every((l) => l.endsWith(' 1'))).toBe(true); // nobody lost a lease
-      // both processes took part (they start together at the barrier; 60 jobs x 25 ms leave time for both)
+      // both processes took part (they start together at the barrier; 60 jobs x 40 ms leave time for both)
       expect(new Set(lines.map((l) => l.split(' ')[0])).size).toBe(2);
 
       const check = openDatabase(path);

@@ -36,15 +36,25 @@ describe('embedded queue: leases', () => {
 
   it('keeps a long job leased by renewing the lease while the handler runs', async () => {
     const db = openDatabase(':memory:');
-    const queue = createEmbeddedQueue(db, { pollIntervalMs: 20, leaseMs: 120 });
-    await queue.enqueue(job(2));
+    const queue = createEmbeddedQueue(db, { pollIntervalMs: 20, leaseMs: 600 });
+    await queue.enqueue(job(2), { jobId: 'long' });
+    const lockedUntil = () => db.prepare("SELECT locked_until FROM jobs WHERE id = 'long'").pluck().get() as number;
     let runs = 0;
+    const renewals: number[] = [];
     queue.work(async () => {
       runs += 1;
-      await new Promise((r) => setTimeout(r, 500)); // > 4 lease lengths
+      // run until the heartbeat has pushed the lease forward three times (no wall-clock bound: robust under load)
+      let last = lockedUntil();
+      while (renewals.length < 3) {
+        await new Promise((r) => setTimeout(r, 20));
+        const now = lockedUntil();
+        if (now > last) renewals.push(now - last);
+        last = now;
+      }
     }, { concurrency: 2 });
-    await waitFor(async () => (await queue.counts()).completed === 1, 5000, 'completion');
-    expect(runs).toBe(1); // a second worker slot never stole the job
+    await waitFor(async () => (await queue.counts()).completed === 1, 20_000, 'completion');
+    expect(runs).toBe(1); // the second worker slot never stole the job
+    expect(renewals).toHaveLength(3);
     await queue.close();
     db.close();
   });

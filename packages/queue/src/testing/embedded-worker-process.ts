@@ -15,7 +15,7 @@ process.stdout.write('ready\n');
 while (!existsSync(goFile)) await new Promise((r) => setTimeout(r, 5));
 const worker = queue.work(async (job) => {
   process.stdout.write(`${process.pid} ${job.id} ${job.attempt}\n`);
-  await new Promise((r) => setTimeout(r, 25));
+  await new Promise((r) => setTimeout(r, 40));
 }, { concurrency: 2 });
 // wait until the queue has been drained by all processes
 for (;;) {
