@@ -144,6 +144,12 @@ describe.skipIf(!haveBrowser)('dashboard end to end', () => {
     });
     const n = await page.$$eval('table.runs tbody tr', (trs) => trs.length);
     expect(n).toBe(runs.filter((r) => r.verdict === 'sound').length);
+    await page.goto(`${base}/#/queue?robot_id=kestrel-01&from=2026-11-30&to=2026-11-30`);
+    const k1 = runs.filter((r) => r.robot === 'kestrel-01').length;
+    await page.waitForFunction((k) => document.querySelectorAll('table.runs tbody tr[data-run]').length === k, k1);
+    await page.goto(`${base}/#/queue?from=2026-12-01`);
+    await page.waitForSelector('p.empty');
+    expect(await page.textContent('p.empty')).toContain('Nothing awaits a decision');
     await page.goto(`${base}/#/queue`);
     await page.waitForFunction((k) => document.querySelectorAll('table.runs tbody tr').length === k, runs.length);
   });

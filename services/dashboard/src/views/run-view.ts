@@ -20,9 +20,9 @@ function legend(report: Report): HTMLElement {
   return h(
     'ul',
     { class: 'legend', 'aria-label': 'Map legend' },
-    item('odom', 'odometry path'),
-    report.series.repaired_trajectory ? item('repaired', 'repaired path (dashed)') : null,
-    report.series.gnss_fixes ? item('gnss', 'GNSS fix: ■ RTK fixed, ○ other') : null,
+    item('odom', `odometry path (${report.series.trajectory.frame})`),
+    report.series.repaired_trajectory ? item('repaired', `repaired path, dashed (${report.series.repaired_trajectory.frame})`) : null,
+    report.series.gnss_fixes ? item('gnss', `GNSS fix: ■ RTK fixed, ○ other (${report.series.gnss_fixes.frame})`) : null,
     item('loop', 'loop used'),
     item('loop-rejected', '✕ loop rejected (dashed)'),
     item('warn', '▲ warning stretch (long dashes)'),
@@ -109,7 +109,7 @@ export async function renderRun(ctx: AppContext, id: string): Promise<View> {
   const cursor = createTimeCursor();
   const flags = renderFlagList(report.flags, draft, cursor);
   const mapHeight = Math.round(Math.min(460, Math.max(300, window.innerHeight * 0.42)));
-  const mapCard = h('section', { class: 'card map-card' }, h('h2', {}, 'Map ', h('span', { class: 'muted small' }, '(top-down, odometry frame · drag to pan, wheel to zoom, double-click to fit)')), createMapView(report, cursor, mapHeight), legend(report));
+  const mapCard = h('section', { class: 'card map-card' }, h('h2', {}, 'Map ', h('span', { class: 'muted small' }, '(top-down · drag to pan, wheel to zoom, double-click to fit)')), createMapView(report, cursor, mapHeight), legend(report));
   const plotCard = h('section', { class: 'card' }, h('h2', {}, 'Signals over run time ', h('span', { class: 'muted small' }, '(hover or click to follow one moment on the map and every plot; hatched = flagged)')), renderPlots(report, cursor));
   const side = h('aside', { class: 'run-side' }, caution, h('section', { class: 'card' }, h('h2', {}, `Flags (${report.flags.length})`), flags.el), panel.el, renderEstimates(report), downloads(ctx, detail));
   el = h('section', { class: 'run' }, nav, header(detail), h('div', { class: 'run-grid' }, h('div', { class: 'run-main' }, mapCard, plotCard), side));
