@@ -3,7 +3,7 @@ import { z } from 'zod';
 import { RunSummary, UploadSession, UploadSessionCreate } from '@plumbline/contracts';
 import type { UploadSessionRecord } from '@plumbline/store';
 import type { ApiContext } from '../app.ts';
-import { errors } from '../errors.ts';
+import { AppError, errors } from '../errors.ts';
 import { ingestBlob } from '../ingest.ts';
 import type { Principal } from '../plugins/auth.ts';
 import { defineRoute } from '../plugins/route.ts';
@@ -13,6 +13,12 @@ const UPLOADERS = ['robot', 'admin'] as const;
 const SESSION_TTL_MS = 24 * 3600 * 1000;
 const OffsetQuery = z.object({ offset: z.coerce.number().int().min(0) }).strict();
 const Finished = z.object({ run: RunSummary, created: z.boolean() }).strict();
+
+function isRefusal(e: unknown): boolean {
+  if (e instanceof AppError) return e.statusCode < 500;
+  const name = (e as Error | undefined)?.name;
+  return name === 'BundleError' || name === 'RunConflictError';
+}
 
 function publicSession(s: UploadSessionRecord): UploadSession {
   const { id, robot_id, run_id, size_bytes, sha256, received_bytes, state, expires_at, run } = s;
@@ -97,18 +103,23 @@ export function registerUploadRoutes(ctx: ApiContext): void {
       }
       if (s.state !== 'open') throw errors.UPLOAD_CLOSED(s.id, s.state);
       if (s.received_bytes !== s.size_bytes) throw errors.UPLOAD_INCOMPLETE(s.id, s.received_bytes, s.size_bytes).with({ expected_offset: s.received_bytes });
-      const blob = await blobs.promote(s.temp_path, s.sha256).catch((e: unknown) => {
-        // A digest mismatch cannot be repaired by sending more bytes: the session ends.
-        if ((e as { code?: string }).code === 'BLOB_CHECKSUM_MISMATCH') store.uploads.abort(s.id);
-        throw e;
-      });
+      // A finish retried after a failure past this point finds the bytes already at their content address.
+      const blob = (await blobs.has(s.sha256))
+        ? { sha256: s.sha256, sizeBytes: s.size_bytes, path: blobs.pathOf(s.sha256) }
+        : await blobs.promote(s.temp_path, s.sha256).catch((e: unknown) => {
+            // A digest mismatch cannot be repaired by sending more bytes: the session ends.
+            if ((e as { code?: string }).code === 'BLOB_CHECKSUM_MISMATCH') store.uploads.abort(s.id);
+            throw e;
+          });
       let result;
       try {
         result = await ingestBlob(ctx.deps, principal, blob, { robot_id: s.robot_id, run_id: s.run_id });
       } catch (e) {
-        store.uploads.abort(s.id);
+        // Refusals end the session; other failures leave it open so the client can call finish again.
+        if (isRefusal(e)) store.uploads.abort(s.id);
         throw e;
       }
+      await blobs.removeTemp(s.temp_path);
       store.uploads.complete(s.id, result.run.id);
       reply.code(result.created ? 201 : 200);
       return result;
