@@ -1,6 +1,6 @@
 import { createWriteStream } from 'node:fs';
 import { mkdir } from 'node:fs/promises';
-import { once } from 'node:events';
+import { pipeline } from 'node:stream/promises';
 import { dirname, join } from 'node:path';
 import { BundleError } from './errors.ts';
 
@@ -78,32 +78,38 @@ export class Extractor {
   }
 
   /**
-   * Streams one file entry to disk. `perEntryRatioOf` (compressed size) enables the per-entry ratio check (zip).
+   * Streams one file entry to disk, counting bytes as they pass: the total-size cap, the size declared in the
+   * entry header and, when `compressedBytes` is given (zip), the per-entry ratio cap.
    */
   async file(name: string, data: AsyncIterable<Uint8Array>, declaredBytes: number, compressedBytes?: number): Promise<void> {
     const path = join(this.root, name);
     await mkdir(dirname(path), { recursive: true }).catch((err: unknown) => this.fsError(name, err));
-    const out = createWriteStream(path, { flags: 'wx' });
-    const opened = once(out, 'open').catch((err: unknown) => this.fsError(name, err));
-    await opened;
     let written = 0;
-    try {
-      for await (const chunk of data) {
-        written += chunk.length;
-        this.totalBytes += chunk.length;
-        if (this.totalBytes > this.limits.maxTotalBytes) this.tooLarge();
-        if (written > declaredBytes) {
-          throw new BundleError('ARCHIVE_CORRUPT', `entry "${name}" is larger than its header says (${declaredBytes} bytes)`, { file: this.archive });
-        }
-        if (compressedBytes !== undefined && written > this.limits.ratioFloorBytes && written > this.limits.maxRatio * compressedBytes) {
-          throw this.ratioError(name, compressedBytes);
-        }
-        if (!out.write(chunk)) await once(out, 'drain');
+    const count = (bytes: number): void => {
+      written += bytes;
+      this.totalBytes += bytes;
+      if (this.totalBytes > this.limits.maxTotalBytes) this.tooLarge();
+      if (written > declaredBytes) {
+        throw new BundleError('ARCHIVE_CORRUPT', `entry "${name}" is larger than its header says (${declaredBytes} bytes)`, { file: this.archive });
       }
-      out.end();
-      await once(out, 'finish');
-    } finally {
-      out.destroy();
+      if (compressedBytes !== undefined && written > this.limits.ratioFloorBytes && written > this.limits.maxRatio * compressedBytes) {
+        throw this.ratioError(name, compressedBytes);
+      }
+    };
+    try {
+      await pipeline(
+        data,
+        async function* (source: AsyncIterable<Uint8Array>) {
+          for await (const chunk of source) {
+            count(chunk.length);
+            yield chunk;
+          }
+        },
+        createWriteStream(path, { flags: 'wx' }),
+      );
+    } catch (err) {
+      if (err instanceof BundleError) throw err;
+      this.fsError(name, err);
     }
   }
 
@@ -124,6 +130,6 @@ export class Extractor {
     if (code === 'EEXIST' || code === 'ENOTDIR' || code === 'EISDIR') {
       throw new BundleError('ARCHIVE_DUPLICATE', `entry "${name}" collides with another entry`, { file: this.archive, cause: err });
     }
-    throw new BundleError('ARCHIVE_CORRUPT', `cannot extract entry "${name}": ${(err as Error).message}`, { file: this.archive, cause: err });
+    throw err; // disk full, permissions: a server problem, not the bundle's
   }
 }

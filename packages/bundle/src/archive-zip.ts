@@ -1,7 +1,7 @@
 import type { Readable } from 'node:stream';
 import yauzl from 'yauzl';
 import type { Extractor } from './archive-extractor.ts';
-import { BundleError } from './errors.ts';
+import { BundleError, isSystemError } from './errors.ts';
 
 /** yauzl's name decoder (exported by the library, missing from its type declarations). */
 const getFileNameLowLevel = (yauzl as unknown as {
@@ -49,6 +49,7 @@ export async function extractZip(path: string, ex: Extractor): Promise<void> {
   try {
     zip = await openZip(path);
   } catch (err) {
+    if (isSystemError(err)) throw err;
     throw new BundleError('ARCHIVE_CORRUPT', `zip is corrupt or truncated: ${(err as Error).message}`, { file: ex.archive, cause: err });
   }
   try {
@@ -61,7 +62,7 @@ export async function extractZip(path: string, ex: Extractor): Promise<void> {
       await extractEntry(zip, entry, ex);
     }
   } catch (err) {
-    if (err instanceof BundleError) throw err;
+    if (err instanceof BundleError || isSystemError(err)) throw err;
     throw new BundleError('ARCHIVE_CORRUPT', `zip is corrupt or truncated: ${(err as Error).message}`, { file: ex.archive, cause: err });
   } finally {
     zip.close();

@@ -118,6 +118,11 @@ describe('tar entries that are refused', () => {
     expect(e).toMatchObject({ code: 'ARCHIVE_DUPLICATE' });
     expect(e.message).toContain('"imu.csv"');
   });
+  it('a file where a directory is needed collides: ARCHIVE_DUPLICATE', async () => {
+    const e = await rejects('run.tar', await tarBuffer([{ name: 'data', data: 'x' }, { name: 'data/imu.csv', data: 'y' }]));
+    expect(e.code).toBe('ARCHIVE_DUPLICATE');
+    expect(e.message).toContain('"data/imu.csv"');
+  });
   it('too many entries is ARCHIVE_TOO_MANY_ENTRIES', async () => {
     const many = Array.from({ length: 65 }, (_, i) => ({ name: `f${i}.txt`, data: 'x' }));
     expect((await rejects('run.tar', await tarBuffer(many))).code).toBe('ARCHIVE_TOO_MANY_ENTRIES');

@@ -8,7 +8,7 @@ import { createGunzip } from 'node:zlib';
 import { extract as tarExtract } from 'tar-stream';
 import { Extractor, resolveLimits, type ArchiveLimits, type ResolvedLimits } from './archive-extractor.ts';
 import { extractZip } from './archive-zip.ts';
-import { BundleError } from './errors.ts';
+import { BundleError, isSystemError } from './errors.ts';
 
 export type BundleKind = 'directory' | 'tar' | 'tar.gz' | 'zip';
 
@@ -132,10 +132,14 @@ async function extractTar(path: string, gz: boolean, size: number, ex: Extractor
   if (feedError !== null) throw preferred(feedError, feedError, ex.archive);
 }
 
-/** A limit error raised while feeding wins over the follow-on error seen by the reader. */
-function preferred(feedError: unknown, err: unknown, archive: string): BundleError {
-  if (feedError instanceof BundleError) return feedError;
-  if (err instanceof BundleError) return err;
+/**
+ * Picks the error to report: a limit error raised while feeding wins over the follow-on error seen by the reader;
+ * a system error (ENOSPC, EACCES, …) is the server's problem, not the bundle's, and is rethrown as it is;
+ * anything else from tar-stream or zlib means the archive is damaged.
+ */
+function preferred(feedError: unknown, err: unknown, archive: string): unknown {
+  for (const e of [feedError, err]) if (e instanceof BundleError) return e;
+  for (const e of [err, feedError]) if (isSystemError(e)) return e;
   const e = (feedError ?? err) as Error;
   return new BundleError('ARCHIVE_CORRUPT', `archive is corrupt or truncated: ${e.message}`, { file: archive, cause: e });
 }

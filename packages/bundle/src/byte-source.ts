@@ -42,7 +42,7 @@ export async function forEachChunk(
     }
     return;
   }
-  const compressedBytes = await stat(source).then((s) => s.size, (err: unknown) => Promise.reject(ioError(err, file)));
+  const compressedBytes = await stat(source).then((s) => s.size, (err: unknown) => Promise.reject(ioError(err, file) as Error));
   const maxBytes = limits.maxBytes ?? 4 * 1024 ** 3;
   const maxRatio = limits.maxRatio ?? 200;
   const floor = limits.ratioFloorBytes ?? 1024 * 1024;
@@ -62,8 +62,11 @@ export async function forEachChunk(
       onChunk(chunk as Buffer);
     }
   } catch (err) {
-    if (err instanceof BundleError) throw err;
-    throw new BundleError('GZIP_CORRUPT', `gzip stream is corrupt or truncated: ${(err as Error).message}`, { file, cause: err });
+    const code = (err as NodeJS.ErrnoException | null)?.code;
+    if (typeof code === 'string' && code.startsWith('Z_')) {
+      throw new BundleError('GZIP_CORRUPT', `gzip stream is corrupt or truncated: ${(err as Error).message}`, { file, cause: err });
+    }
+    throw ioError(err, file);
   } finally {
     raw.unpipe(gunzip);
     raw.destroy();
@@ -71,9 +74,10 @@ export async function forEachChunk(
   }
 }
 
-function ioError(err: unknown, file: string): BundleError {
-  if (err instanceof BundleError) return err;
-  const code = (err as NodeJS.ErrnoException).code;
+/** File-system errors become FILE_MISSING naming the file; anything else (a BundleError, a bug) passes through. */
+function ioError(err: unknown, file: string): unknown {
+  const code = (err as NodeJS.ErrnoException | null)?.code;
+  if (err instanceof BundleError || typeof code !== 'string') return err;
   if (code === 'ENOENT') return new BundleError('FILE_MISSING', 'file not found', { file, cause: err });
   return new BundleError('FILE_MISSING', `cannot read file: ${(err as Error).message}`, { file, cause: err });
 }

@@ -78,3 +78,9 @@ function formatMessage(message: string, init: BundleErrorInit): string {
 export function isBundleError(e: unknown): e is BundleError {
   return e instanceof BundleError;
 }
+
+/** An operating-system error (ENOSPC, EACCES, …): the server's problem, never reported as a bundle defect. */
+export function isSystemError(e: unknown): boolean {
+  const code = (e as NodeJS.ErrnoException | null)?.code;
+  return typeof code === 'string' && /^E[A-Z]+$/.test(code);
+}
