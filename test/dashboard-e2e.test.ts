@@ -254,6 +254,10 @@ describe.skipIf(!haveBrowser)('dashboard end to end', () => {
     await page.screenshot({ path: join(ARTIFACTS, 'dashboard-help.png') });
     await page.keyboard.press('Escape');
     expect(await page.isVisible('.help-overlay')).toBe(false);
+    await page.mouse.move(2, 2);
+    await page.keyboard.press('ArrowRight'); // pins the time cursor at 1 % of the run
+    await page.waitForTimeout(100);
+    expect(await colourInBand(page, '.map-overlay', [240, 228, 66], 0, 2000)).toBeGreaterThan(30);
 
     const long = runs.find((r) => r.durationS >= 8 * 3600)!;
     const t0 = Date.now();

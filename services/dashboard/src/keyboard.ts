@@ -27,6 +27,7 @@ export const SHORTCUTS: Record<'anywhere' | 'queue' | 'run', Shortcut[]> = {
     { keys: 's / Ctrl+Enter', what: 'save the review' },
     { keys: '[ / ]', what: 'select previous / next flag' },
     { keys: 'u / d / e', what: 'selected flag: upheld / dismissed / rerun needed' },
+    { keys: '← / →', what: 'move the time cursor by 1 % of the run (Shift: 5 %)' },
     { keys: 'Backspace', what: 'back to the queue' },
   ],
 };

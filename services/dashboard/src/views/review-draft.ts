@@ -1,4 +1,4 @@
-import { FlagDisposition, type ReviewInput, type RunDecision } from '@plumbline/contracts';
+import { FlagDisposition, type Review, type ReviewInput, type RunDecision } from '@plumbline/contracts';
 
 /** The review being written on a run page: the run decision plus one optional disposition per flag. */
 export interface ReviewDraft {
@@ -7,8 +7,17 @@ export interface ReviewDraft {
   flags: Map<string, { disposition: FlagDisposition | null; note: string }>;
 }
 
-export function createDraft(flagIds: readonly string[]): ReviewDraft {
-  return { decision: null, note: '', flags: new Map(flagIds.map((id) => [id, { disposition: null, note: '' }])) };
+/**
+ * A fresh draft. Flag dispositions (and their notes) of the latest earlier review carry over, so a second look
+ * starts where the first stopped; the run decision never does — it must be chosen again on purpose.
+ */
+export function createDraft(flagIds: readonly string[], previous: Review | null = null): ReviewDraft {
+  const carried = new Map((previous?.flags ?? []).map((f) => [f.flag_id, f]));
+  return {
+    decision: null,
+    note: '',
+    flags: new Map(flagIds.map((id) => [id, { disposition: carried.get(id)?.disposition ?? null, note: carried.get(id)?.note ?? '' }])),
+  };
 }
 
 /** Draft -> API body. Flags without a disposition are left out; a decision is required. */

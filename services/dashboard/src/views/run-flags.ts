@@ -23,9 +23,11 @@ export function renderFlagList(flags: readonly Flag[], draft: ReviewDraft, curso
     const entry = draft.flags.get(f.id)!;
     const s = SEVERITY_STYLE[f.severity];
     const sel = h('select', { 'aria-label': `Disposition of ${f.id}`, name: `disp-${f.id}` }, h('option', { value: '' }, '— not reviewed'), ...DISPOSITIONS.map((d) => h('option', { value: d.value }, `${d.label} (${d.key})`)));
+    sel.value = entry.disposition ?? '';
     sel.addEventListener('change', () => (entry.disposition = (sel.value || null) as FlagDisposition | null));
     selects.set(f.id, sel);
     const note = h('input', { type: 'text', placeholder: 'note on this flag', 'aria-label': `Note on ${f.id}`, maxlength: 4000 });
+    note.value = entry.note;
     note.addEventListener('input', () => (entry.note = note.value));
     const li = h(
       'li',

@@ -93,7 +93,7 @@ export async function renderRun(ctx: AppContext, id: string): Promise<View> {
   const nav = h('p', { class: 'muted small run-nav' }, h('a', { href: ctx.queueHash }, '← queue'), ` · ${where} · j/k next/previous · ? keys`);
 
   let el: HTMLElement = h('section');
-  const draft = createDraft(report ? report.flags.map((f) => f.id) : []);
+  const draft = createDraft(report ? report.flags.map((f) => f.id) : [], detail.reviews[detail.reviews.length - 1] ?? null);
   const onSaved = (r: Review): void => {
     const dd = el.querySelector('.run-decision');
     if (dd) dd.textContent = `${DECISION_STYLE[r.decision].label} (${fmtTimestamp(r.created_at)})`;
@@ -103,7 +103,7 @@ export async function renderRun(ctx: AppContext, id: string): Promise<View> {
   if (!report) {
     const why = detail.summary.status_reason ? `: ${detail.summary.status_reason}` : '';
     el = h('section', { class: 'run' }, nav, header(detail), caution, h('p', { class: 'card' }, `No report yet (status ${detail.summary.status}${why}).`), panel.el);
-    return { el, onKey: (ev) => runKeys(ev, { step, panel, flags: null, back: () => ctx.navigate(ctx.queueHash) }) };
+    return { el, onKey: (ev) => runKeys(ev, { step, panel, flags: null, back: () => ctx.navigate(ctx.queueHash), nudge: () => false }) };
   }
 
   const cursor = createTimeCursor();
@@ -113,7 +113,13 @@ export async function renderRun(ctx: AppContext, id: string): Promise<View> {
   const plotCard = h('section', { class: 'card' }, h('h2', {}, 'Signals over run time ', h('span', { class: 'muted small' }, '(hover or click to follow one moment on the map and every plot; hatched = flagged)')), renderPlots(report, cursor));
   const side = h('aside', { class: 'run-side' }, caution, h('section', { class: 'card' }, h('h2', {}, `Flags (${report.flags.length})`), flags.el), panel.el, renderEstimates(report), downloads(ctx, detail));
   el = h('section', { class: 'run' }, nav, header(detail), h('div', { class: 'run-grid' }, h('div', { class: 'run-main' }, mapCard, plotCard), side));
-  return { el, onKey: (ev) => runKeys(ev, { step, panel, flags, back: () => ctx.navigate(ctx.queueHash) }) };
+  const nudge = (dir: number, coarse: boolean): boolean => {
+    const d = report.run.duration_s;
+    const t = cursor.state.pinnedT ?? cursor.state.hoverT ?? 0;
+    cursor.set({ pinnedT: Math.min(Math.max(t + dir * d * (coarse ? 0.05 : 0.01), 0), d) });
+    return true;
+  };
+  return { el, onKey: (ev) => runKeys(ev, { step, panel, flags, back: () => ctx.navigate(ctx.queueHash), nudge }) };
 }
 
 /** A run opened straight from a link still gets j/k: load the default queue (open runs by priority) once. */
@@ -132,6 +138,8 @@ interface RunKeyTargets {
   panel: ReturnType<typeof renderReviewPanel>;
   flags: ReturnType<typeof renderFlagList> | null;
   back(): void;
+  /** Move the pinned time cursor by 1 % of the run (5 % with Shift). */
+  nudge(dir: number, coarse: boolean): boolean;
 }
 
 const DECISION_KEYS = new Map<string, RunDecision>(Object.entries(DECISION_STYLE).map(([d, s]) => [s.key, d as RunDecision]));
@@ -155,6 +163,10 @@ function runKeys(ev: KeyboardEvent, t: RunKeyTargets): boolean {
     case 's':
       void t.panel.save();
       return true;
+    case 'ArrowLeft':
+      return t.nudge(-1, ev.shiftKey);
+    case 'ArrowRight':
+      return t.nudge(1, ev.shiftKey);
     case 'Backspace':
       t.back();
       return true;

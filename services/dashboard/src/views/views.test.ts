@@ -35,6 +35,18 @@ describe('review draft', () => {
   });
 });
 
+describe('review draft carry-over', () => {
+  it('keeps earlier flag dispositions for flags still in the report but not the decision', () => {
+    const prev = { id: 1, run: 'r', decision: 'reject' as const, note: 'x', reviewer: 'lead', created_at: '2026-12-01T08:00:00Z', flags: [{ flag_id: 'scale-drift-1', disposition: 'dismissed' as const, note: 'lighting' }, { flag_id: 'gone-1', disposition: 'upheld' as const }] };
+    const d = createDraft(['scale-drift-1', 'loop-mismatch-1'], prev);
+    expect(d.decision).toBeNull();
+    expect([...d.flags.entries()]).toEqual([
+      ['scale-drift-1', { disposition: 'dismissed', note: 'lighting' }],
+      ['loop-mismatch-1', { disposition: null, note: '' }],
+    ]);
+  });
+});
+
 describe('plot plan', () => {
   const rep = buildFixtureReport({ robotId: 'plover-01', runId: 'r', site: 'northgate-yard', startedAt: '2026-11-30T06:00:00Z', durationS: 3600, seed: 3, fault: 'scale' });
   it('orders known series first and IMU rates last', () => {
