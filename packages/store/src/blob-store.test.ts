@@ -140,6 +140,19 @@ describe('blob store: resumable sessions', () => {
     expect(statSync(temp).size).toBe(1000);
   });
 
+  it('serialises racing writes to one session: the second fails on the offset instead of interleaving', async () => {
+    const temp = await blobs.createTemp('upload-3');
+    const a = bytes(200_000, 1);
+    const b = bytes(200_000, 2);
+    const results = await Promise.allSettled([
+      blobs.appendChunk(temp, 0, chunked(a, 8192), { maxBytes: 400_000 }),
+      blobs.appendChunk(temp, 0, chunked(b, 8192), { maxBytes: 400_000 }),
+    ]);
+    expect(results[0]).toEqual({ status: 'fulfilled', value: 200_000 });
+    expect(results[1]).toMatchObject({ status: 'rejected', reason: { code: 'BLOB_OFFSET_MISMATCH', expectedOffset: 200_000 } });
+    expect(readFileSync(temp).equals(a)).toBe(true);
+  });
+
   it('sweeps stale temp files only', async () => {
     const old = await blobs.createTemp('old');
     const fresh = await blobs.createTemp('fresh');

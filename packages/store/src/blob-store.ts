@@ -69,6 +69,33 @@ async function hashFile(path: string): Promise<{ sha256: string; sizeBytes: numb
   return { sha256: hash.digest('hex'), sizeBytes: size };
 }
 
+
+/** Writes `source` at `offset` of a session temp file (which must hold exactly `offset` bytes) and fsyncs. */
+async function appendAt(
+  tempPath: string,
+  offset: number,
+  source: Readable | AsyncIterable<Uint8Array> | Uint8Array,
+  maxBytes: number,
+): Promise<number> {
+  const file = await open(tempPath, 'r+');
+  try {
+    const { size } = await file.stat();
+    if (size !== offset) throw new BlobOffsetError(size, offset);
+    try {
+      const end = await pump(source, file, offset, maxBytes, null);
+      await file.sync();
+      return end;
+    } catch (err) {
+      // keep the file consistent with the last acknowledged offset so the client can resume from it
+      await file.truncate(offset);
+      await file.sync();
+      throw err;
+    }
+  } finally {
+    await file.close();
+  }
+}
+
 /**
  * Content-addressed bundle files under `dir`: `<dir>/sha256/ab/cdef…` (the first two hex digits fan out the
  * directory), temp files in `<dir>/tmp/`. A blob becomes visible under its final name only after it was fully
@@ -76,6 +103,7 @@ async function hashFile(path: string): Promise<{ sha256: string; sizeBytes: numb
  */
 export function createBlobStore(dir: string): BlobStore {
   const tmpDir = join(dir, 'tmp');
+  const appending = new Map<string, Promise<void>>();
   const pathOf = (sha256: string): string => join(dir, 'sha256', checkSha(sha256).slice(0, 2), sha256.slice(2));
   const newTempPath = (label = 'blob'): string =>
     join(tmpDir, `${label.replace(/[^A-Za-z0-9_-]/g, '_').slice(0, 64)}-${Date.now()}-${randomBytes(6).toString('hex')}.part`);
@@ -124,22 +152,19 @@ export function createBlobStore(dir: string): BlobStore {
       return temp;
     },
     async appendChunk(tempPath, offset, source, opts) {
-      const file = await open(tempPath, 'r+');
+      // one writer per session file at a time in this process: a racing second request waits, then finds the
+      // file grown and fails with BlobOffsetError instead of interleaving its bytes
+      const previous = appending.get(tempPath) ?? Promise.resolve();
+      let release!: () => void;
+      const mine = new Promise<void>((r) => (release = r));
+      const chained = previous.then(() => mine);
+      appending.set(tempPath, chained);
+      await previous;
       try {
-        const { size } = await file.stat();
-        if (size !== offset) throw new BlobOffsetError(size, offset);
-        try {
-          const end = await pump(source, file, offset, opts.maxBytes, null);
-          await file.sync();
-          return end;
-        } catch (err) {
-          // keep the file consistent with the last acknowledged offset so the client can resume from it
-          await file.truncate(offset);
-          await file.sync();
-          throw err;
-        }
+        return await appendAt(tempPath, offset, source, opts.maxBytes);
       } finally {
-        await file.close();
+        release();
+        if (appending.get(tempPath) === chained) appending.delete(tempPath);
       }
     },
     async promote(tempPath, expectedSha256) {
