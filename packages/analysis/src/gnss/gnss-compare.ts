@@ -12,6 +12,8 @@ export interface FixTrack {
   e: Float64Array;
   n: Float64Array;
   u: Float64Array;
+  /** 1-sigma horizontal accuracy reported with the fix, metres (NaN when unknown). */
+  hacc: Float64Array;
   /** Antenna position from odometry, odometry world frame. */
   ox: Float64Array;
   oy: Float64Array;
@@ -74,7 +76,7 @@ export function buildFixTrack(
   }
   const k = idx.length;
   const track: FixTrack = {
-    t: new Float64Array(k), e: new Float64Array(k), n: new Float64Array(k), u: new Float64Array(k),
+    t: new Float64Array(k), e: new Float64Array(k), n: new Float64Array(k), u: new Float64Array(k), hacc: new Float64Array(k),
     ox: new Float64Array(k), oy: new Float64Array(k), oz: new Float64Array(k),
   };
   for (let j = 0; j < k; j++) {
@@ -83,6 +85,7 @@ export function buildFixTrack(
     track.e[j] = allE[i]!;
     track.n[j] = allN[i]!;
     track.u[j] = allU[i]!;
+    track.hacc[j] = gnss.hacc[i]!;
     track.ox[j] = ant[3 * j]!;
     track.oy[j] = ant[3 * j + 1]!;
     track.oz[j] = ant[3 * j + 2]!;
@@ -117,7 +120,7 @@ export function compareWithGnss(
   for (let j = 0; j < k; j++) ss += global.resH[j]! ** 2;
   const rmseH = Math.sqrt(ss / k);
   const local = windowedResiduals(track, opts, global.scale, Math.max(120, 12 * th.window_s));
-  const findings = divergenceFindings(track.t, local.errH, th['gnss-divergence'].warn ?? Number.POSITIVE_INFINITY);
+  const findings = divergenceFindings(track, local.errH, th['gnss-divergence'].warn ?? Number.POSITIVE_INFINITY);
   return { ok: true, origin: built.origin, gating, allE: built.allE, allN: built.allN, allU: built.allU, track, global, errH: local.errH, errV: local.errV, rmseH, windowT: local.windowT, windowHeadingDeg: local.headingDeg, findings };
 }
 
@@ -155,13 +158,20 @@ function windowedResiduals(track: FixTrack, opts: UmeyamaOptions, scale: number,
   return { errH, errV, windowT: Float64Array.from(windowT), headingDeg: Float64Array.from(headingDeg) };
 }
 
-/** Runs of fixes with residual ≥ level (gaps < 2 s bridged, at least 3 fixes): value = median residual of the run. */
-function divergenceFindings(t: Float64Array, errH: Float64Array, level: number): InertialFinding[] {
+/** Multipath episodes last a few seconds; a disagreement must persist longer to count (common practice). */
+const MIN_DIVERGENCE_S = 4;
+
+/**
+ * Runs of fixes whose residual is at or above `level` and at least twice the fix's own stated 1-sigma accuracy
+ * (gaps < 2 s bridged, lasting at least MIN_DIVERGENCE_S): value = median residual of the run.
+ */
+function divergenceFindings(track: FixTrack, errH: Float64Array, level: number): InertialFinding[] {
+  const t = track.t;
   const out: InertialFinding[] = [];
   let start = -1, last = -1;
   const vals: number[] = [];
   const close = () => {
-    if (start >= 0 && vals.length >= 3) {
+    if (start >= 0 && vals.length >= 3 && t[last]! - t[start]! >= MIN_DIVERGENCE_S) {
       vals.sort((x, y) => x - y);
       const med = vals[vals.length >> 1]!;
       out.push({ kind: 'gnss-divergence', tStart: t[start]!, tEnd: t[last]!, value: med, unit: 'm', detail: `${vals.length} fixes disagree with odometry` });
@@ -170,8 +180,8 @@ function divergenceFindings(t: Float64Array, errH: Float64Array, level: number):
     vals.length = 0;
   };
   for (let j = 0; j < t.length; j++) {
-    const e = errH[j]!;
-    if (!(e >= level)) continue;
+    const e = errH[j]!, acc = track.hacc[j]!;
+    if (!(e >= level) || (Number.isFinite(acc) && e < 2 * acc)) continue;
     if (start >= 0 && t[j]! - t[last]! > 2) close();
     if (start < 0) start = j;
     last = j;

@@ -23,7 +23,13 @@ export function robustAlign(track: FixTrack, lo: number, hi: number, opts: Umeya
   const src = { x: track.ox.subarray(lo, hi), y: track.oy.subarray(lo, hi), z: track.oz.subarray(lo, hi) };
   const dst = { x: track.e.subarray(lo, hi), y: track.n.subarray(lo, hi), z: track.u.subarray(lo, hi) };
   const m = hi - lo;
-  const weights = new Float64Array(m).fill(1);
+  // Base weights 1/σ² from the fixes' stated accuracy (floor 5 cm), so RTK fixes dominate single-point ones.
+  const base = new Float64Array(m);
+  for (let j = 0; j < m; j++) {
+    const a = track.hacc[lo + j]!;
+    base[j] = Number.isFinite(a) ? 1 / Math.max(a, 0.05) ** 2 : 1;
+  }
+  const weights = Float64Array.from(base);
   const resH = new Float64Array(m), resV = new Float64Array(m);
   let last: Alignment | null = null;
   for (let pass = 0; pass < 6; pass++) {
@@ -40,7 +46,7 @@ export function robustAlign(track: FixTrack, lo: number, hi: number, opts: Umeya
       resH[j] = h;
       resV[j] = dst.z[j]! - pu;
       const rr = Math.hypot(h, resV[j]!);
-      weights[j] = pass < 3 ? (rr <= kM ? 1 : kM / rr) : rr <= 2.5 * kM ? 1 : 0;
+      weights[j] = base[j]! * (pass < 3 ? (rr <= kM ? 1 : kM / rr) : rr <= 2.5 * kM ? 1 : 0);
       if (weights[j]! > 0) inliers++;
     }
     last = { r: Float64Array.from(r), t: Float64Array.from(t), scale: c, resH, resV, inliers };

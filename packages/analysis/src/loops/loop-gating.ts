@@ -4,7 +4,8 @@ import { se3Edge, planarEdge } from './pose-graph-edges.ts';
 /**
  * χ² gating of loop edges in a pose graph: separates false loop closures from consistent loops.
  *
- * Method: optimise with every candidate loop under a Huber kernel (threshold √gate), then test each loop's
+ * Method: first test every loop against the odometry alone and exclude those beyond the gate; then optimise with
+ * the remaining loops under a Huber kernel (threshold √gate) and test each loop's
  * innovation — its residual at the optimum — against the covariance of the loop measurement plus the odometry
  * drift allowed over the path between its ends: χ² = |r_t|²/(σ_loop,t² + (p_t·L)²) + |r_φ|²/(σ_loop,φ² + (p_φ·L)²),
  * with L the odometry path length between the loop ends and p_t, p_φ drift rates (drift is systematic, so it grows
@@ -65,6 +66,15 @@ export function gateLoops(input: GatingInput): GatingResult {
   for (let i = 0; i < L; i++) {
     g.huber[loopEdges[i]!] = Math.sqrt(gates[i]!);
     g.active[loopEdges[i]!] = 1;
+  }
+  // Pre-test against the odometry alone (the state before any loop pulls on it): a loop that the drift allowance
+  // cannot explain is excluded before it can bend the graph towards itself.
+  for (let i = 0; i < L; i++) {
+    chi2[i] = innovationChi2(g, loopEdges[i]!, input);
+    if (chi2[i]! > gates[i]!) {
+      accepted[i] = 0;
+      g.active[loopEdges[i]!] = 0;
+    }
   }
   let rounds = 0, iterations = 0;
   for (; rounds < maxRounds; rounds++) {

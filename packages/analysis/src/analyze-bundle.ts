@@ -1,0 +1,114 @@
+import { readBundle, type GnssColumns, type ImuColumns, type LoopColumns, type OdometryColumns, type ReadStats } from '@plumbline/bundle';
+import { DEFAULT_POLICY, resolvePolicy, type Policy, type Report, type RunManifest } from '@plumbline/contracts';
+import pkg from '../package.json' with { type: 'json' };
+import { analyzeInertial } from './estimators/inertial.ts';
+import { checkTiming } from './estimators/integrity.ts';
+import type { InertialFinding } from './estimators/types.ts';
+import { compareWithGnss, type GnssResult } from './gnss/gnss-compare.ts';
+import { analyzeLoops } from './loops/loop-analysis.ts';
+import { cumulativeDistance, distanceAt } from './loops/path.ts';
+import { repairTrajectory, trajectoryCsv, type RepairedTrajectory } from './loops/repair.ts';
+import { buildReport } from './report/build-report.ts';
+import { buildEstimates, buildIntegrity } from './report/estimates.ts';
+import { buildFlags, type RunClock } from './triage/flags.ts';
+import { policyHash } from './triage/policy-hash.ts';
+import { buildSegments, healthScore, verdictOf } from './triage/score.ts';
+
+/** Version stamped into every report (packages/analysis/package.json). */
+export const ANALYSIS_VERSION: string = pkg.version;
+
+/** The columnar content of a run bundle, as `readBundle` returns it (stats optional for synthetic input). */
+export interface RunData {
+  manifest: RunManifest;
+  imu: ImuColumns;
+  odometry: OdometryColumns;
+  gnss: GnssColumns | null;
+  loops: LoopColumns | null;
+  stats?: { imu: ReadStats | null; odometry: ReadStats | null; gnss: ReadStats | null; loops: ReadStats | null };
+}
+
+export interface RunAnalysis {
+  report: Report;
+  repaired: RepairedTrajectory | null;
+}
+
+/** Latitude for normal gravity: the first finite GNSS fix, else none (standard gravity). */
+function latitudeOf(g: GnssColumns | null): { latitudeDeg?: number; heightM?: number } {
+  if (!g) return {};
+  for (let i = 0; i < g.n; i++) if (Number.isFinite(g.lat[i]!) && g.fix[i]! > 0) return { latitudeDeg: g.lat[i]!, heightM: g.alt[i]! };
+  return {};
+}
+
+function scaleOf(v: { value: number | null }): number | null {
+  return v.value !== null && Number.isFinite(v.value) && v.value > 0 ? v.value : null;
+}
+
+/**
+ * Analyses one run: inertial checks, GNSS comparison, loop consistency and pose graph, triage, repair and the
+ * report. Pure: no I/O, no clock, no randomness; equal input and policy give a byte-identical report.
+ */
+export function analyzeRunDetailed(data: RunData, policy: Policy = DEFAULT_POLICY): RunAnalysis {
+  const { manifest, imu, odometry } = data;
+  if (odometry.n < 2) throw new RangeError('analyzeRun: the odometry has fewer than two poses (bundle reader should reject this)');
+  const resolved = resolvePolicy(policy, manifest.site, manifest.robot_model ?? null);
+  const th = resolved.thresholds;
+  const t0 = odometry.t[0]!;
+  const dist = cumulativeDistance(odometry);
+  const clock: RunClock = { t0, distanceAt: (t) => distanceAt(odometry.t, dist, t) };
+  const inertial = analyzeInertial({ manifest, imu, odometry }, { windowS: th.window_s, windowOverlap: th.window_overlap, ...latitudeOf(data.gnss) });
+  const gnss: GnssResult | null = data.gnss ? compareWithGnss(manifest, odometry, data.gnss, th) : null;
+  const loops = analyzeLoops({ manifest, odometry, dist, loops: data.loops, gnss: gnss && gnss.ok ? gnss : null, thresholds: th });
+  const repaired = repairTrajectory({
+    odometry, keyframes: loops.keyframes, optimised: loops.optimised, scale: scaleOf(inertial.estimates.scale), gravityRotation: null,
+  });
+  const findings: InertialFinding[] = [...inertial.findings, ...(gnss && gnss.ok ? gnss.findings : []), ...loops.findings];
+  const flags = buildFlags(findings, th, clock);
+  const distanceM = dist[odometry.n - 1]!;
+  const stats = data.stats ?? { imu: null, odometry: null, gnss: null, loops: null };
+  const report = buildReport({
+    analysisVersion: ANALYSIS_VERSION,
+    policyHash: policyHash(resolved),
+    manifest, odometry, imu, gnssColumns: data.gnss, clock, distanceM,
+    score: healthScore({ flags, distanceM, durationS: odometry.t[odometry.n - 1]! - t0 }, th),
+    verdict: verdictOf(flags),
+    estimates: buildEstimates(inertial, gnss, loops),
+    integrity: buildIntegrity({
+      inertial,
+      files: { imu: manifest.imu.file, odometry: manifest.odometry.file, gnss: data.gnss ? manifest.gnss?.file ?? 'gnss' : null, loops: data.loops ? manifest.loops?.file ?? 'loops.csv' : null },
+      stats,
+      gnssTiming: data.gnss ? checkTiming(data.gnss.t, data.gnss.n, null, [data.gnss.lat, data.gnss.lon]) : null,
+      gnss, t0, badLineFraction: th.bad_line_fraction,
+    }),
+    flags,
+    segments: buildSegments(flags, th.window_s / 2),
+    inertial, gnss, loops, repair: repaired,
+  });
+  return { report, repaired };
+}
+
+/** Pure analysis of one run's columnar data under a policy (default: DEFAULT_POLICY). */
+export function analyzeRun(data: RunData, policy: Policy = DEFAULT_POLICY): Report {
+  return analyzeRunDetailed(data, policy).report;
+}
+
+/** Reads a bundle (directory or archive) through packages/bundle — the only I/O of the analysis — and analyses it. */
+export async function analyzeBundle(path: string, policy: Policy = DEFAULT_POLICY): Promise<Report> {
+  const b = await readBundle(path);
+  return analyzeRun({ manifest: b.manifest, imu: b.imu, odometry: b.odometry, gnss: b.gnss, loops: b.loops, stats: b.stats }, policy);
+}
+
+/**
+ * The repaired trajectory of a bundle as CSV text in the odometry format (`t,x,y,z,qw,qx,qy,qz`): pose-graph
+ * corrected, in metres when the scale was estimated. Re-runs the (deterministic) analysis under the same policy.
+ */
+export async function repairedTrajectoryCsv(path: string, policy: Policy = DEFAULT_POLICY): Promise<string> {
+  const b = await readBundle(path);
+  const { repaired } = analyzeRunDetailed({ manifest: b.manifest, imu: b.imu, odometry: b.odometry, gnss: b.gnss, loops: b.loops, stats: b.stats }, policy);
+  return trajectoryCsv(repaired ? repaired.columns : b.odometry);
+}
+
+/** The original odometry of a bundle as CSV text in the same format (quality column dropped). */
+export async function originalTrajectoryCsv(path: string): Promise<string> {
+  const b = await readBundle(path);
+  return trajectoryCsv(b.odometry);
+}
