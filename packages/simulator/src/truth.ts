@@ -96,9 +96,9 @@ export function buildManifest(s: Scenario, files: { odometry: string; imu: strin
   return m;
 }
 
-export function buildTruth(s: Scenario, x: TruthExtras): RunTruth {
+/** One truth entry per injected fault, in spec order, with epoch times on the IMU clock. */
+function truthFaults(s: Scenario, x: TruthExtras): TruthFault[] {
   const spec = s.spec;
-  const site = SITES[spec.site];
   const t0 = s.t0Epoch;
   const tEnd = t0 + spec.durationS;
   const g = gravityInOdomWorld(s);
@@ -153,6 +153,17 @@ export function buildTruth(s: Scenario, x: TruthExtras): RunTruth {
         break;
     }
   }
+  return faults;
+}
+
+/** The truth.json document of a scenario. */
+export function buildTruth(s: Scenario, x: TruthExtras): RunTruth {
+  const spec = s.spec;
+  const site = SITES[spec.site];
+  const t0 = s.t0Epoch;
+  const tEnd = t0 + spec.durationS;
+  const g = gravityInOdomWorld(s);
+  const faults = truthFaults(s, x);
   const constOffset = spec.faults.filter((f) => f.kind === 'time-offset' && f.variant !== 'skew').reduce((acc, f) => acc + f.magnitude, 0);
   return {
     format: 'plumbline-truth/1',

@@ -170,14 +170,69 @@ function mergeIntervals(list: (readonly [number, number])[]): [number, number][]
   return out;
 }
 
-function makeEvaluator(phases: Phase[], starts: Float64Array, vib: readonly number[]) {
-  const sd = new Float64Array(4);
-  const sm = new Float64Array(3);
+/** Profile derivatives [s, ṡ, s̈, s⃛] of the current phase; shared scratch (the evaluator is single-threaded). */
+const sd = new Float64Array(4);
+const sm = new Float64Array(3);
+
+/** Straight segment with an optional smooth ramp z = z0 + rise·S(s/L); pitch follows the slope. */
+function evalLine(ph: Phase, out: EulerKinematics): void {
+  const c = Math.cos(ph.yaw0), s = Math.sin(ph.yaw0);
+  smoothstep(sm, sd[0]! / ph.length);
+  const slope = (ph.rise * sm[1]!) / ph.length;
+  const curv = (ph.rise * sm[2]!) / (ph.length * ph.length);
+  out.p[0] = ph.x0 + sd[0]! * c;
+  out.p[1] = ph.y0 + sd[0]! * s;
+  out.p[2] = ph.z0 + ph.rise * sm[0]!;
+  out.v[0] = sd[1]! * c;
+  out.v[1] = sd[1]! * s;
+  out.v[2] = sd[1]! * slope;
+  out.a[0] = sd[2]! * c;
+  out.a[1] = sd[2]! * s;
+  out.a[2] = sd[2]! * slope + curv * sd[1]! * sd[1]!;
+  // Climbing tilts the nose up, which is a negative pitch in the ZYX convention with z up.
+  out.euler[1] = -Math.atan(slope);
+  out.eulerRate[1] = -(curv * sd[1]!) / (1 + slope * slope);
+}
+
+/** Circular arc of radius r turning with sign sg (+1 left); heading stays tangent. */
+function evalArc(ph: Phase, out: EulerKinematics): void {
+  const r = ph.length, sg = ph.sign;
+  const cx = ph.x0 - sg * r * Math.sin(ph.yaw0), cy = ph.y0 + sg * r * Math.cos(ph.yaw0);
+  const alpha = ph.yaw0 - (sg * Math.PI) / 2 + (sg * sd[0]!) / r;
+  const a1 = (sg * sd[1]!) / r, a2 = (sg * sd[2]!) / r;
+  const ca = Math.cos(alpha), sa = Math.sin(alpha);
+  out.p[0] = cx + r * ca;
+  out.p[1] = cy + r * sa;
+  out.v[0] = -r * a1 * sa;
+  out.v[1] = r * a1 * ca;
+  out.a[0] = -r * a2 * sa - r * a1 * a1 * ca;
+  out.a[1] = r * a2 * ca - r * a1 * a1 * sa;
+  out.euler[2] = ph.yaw0 + (sg * sd[0]!) / r;
+  out.eulerRate[2] = a1;
+}
+
+/** Suspension vibration scaled by u = speed / V_REF (with u̇, ü): roll, pitch and vertical bounce. */
+function makeVibration(vib: readonly number[]) {
   const v = (i: number) => vib[i % vib.length] ?? 0.5;
-  // Suspension: roll/pitch 0.2° at 2.5–3.5 Hz, vertical bounce 0.5 mm at 4.5–5.5 Hz (≈0.5 m/s² peak).
+  // Roll/pitch 0.2°/0.15° at 2.5–3.5 Hz, vertical bounce 0.5 mm at 4.5–5.5 Hz (≈0.5 m/s² peak).
   const rollAmp = (0.2 * Math.PI) / 180, pitchAmp = (0.15 * Math.PI) / 180, bounceAmp = 0.0005;
   const wr = 2 * Math.PI * (2.5 + v(0)), wp = 2 * Math.PI * (2.5 + v(1)), wz = 2 * Math.PI * (4.5 + v(2));
   const pr = 2 * Math.PI * v(3), pp = 2 * Math.PI * v(4), pz = 2 * Math.PI * v(5);
+  return (out: EulerKinematics, tRel: number, u: number, u1: number, u2: number): void => {
+    const sr = Math.sin(wr * tRel + pr), sp = Math.sin(wp * tRel + pp), sz = Math.sin(wz * tRel + pz);
+    const cr = Math.cos(wr * tRel + pr), cp = Math.cos(wp * tRel + pp), cz = Math.cos(wz * tRel + pz);
+    out.euler[0]! += rollAmp * u * sr;
+    out.eulerRate[0]! += rollAmp * (u1 * sr + u * wr * cr);
+    out.euler[1]! += pitchAmp * u * sp;
+    out.eulerRate[1]! += pitchAmp * (u1 * sp + u * wp * cp);
+    out.p[2]! += bounceAmp * u * sz;
+    out.v[2]! += bounceAmp * (u1 * sz + u * wz * cz);
+    out.a[2]! += bounceAmp * (u2 * sz + 2 * u1 * wz * cz - u * wz * wz * sz);
+  };
+}
+
+function makeEvaluator(phases: Phase[], starts: Float64Array, vib: readonly number[]) {
+  const vibrate = makeVibration(vib);
   let cursor = 0;
   return function evaluateEuler(tRel: number, out: EulerKinematics): EulerKinematics {
     if (tRel < starts[cursor]! || (cursor + 1 < starts.length && tRel >= starts[cursor + 1]!)) {
@@ -195,65 +250,22 @@ function makeEvaluator(phases: Phase[], starts: Float64Array, vib: readonly numb
     out.v.fill(0);
     out.a.fill(0);
     out.eulerRate.fill(0);
-    out.euler[0] = 0;
-    out.euler[1] = 0;
-    out.euler[2] = ph.yaw0;
-    out.p[0] = ph.x0;
-    out.p[1] = ph.y0;
-    out.p[2] = ph.z0;
-    let u = 0, u1 = 0, u2 = 0;
-    if (ph.kind === KIND_LINE) {
-      const c = Math.cos(ph.yaw0), s = Math.sin(ph.yaw0);
-      smoothstep(sm, sd[0]! / ph.length);
-      const slope = (ph.rise * sm[1]!) / ph.length;
-      const curv = (ph.rise * sm[2]!) / (ph.length * ph.length);
-      out.p[0] = ph.x0 + sd[0]! * c;
-      out.p[1] = ph.y0 + sd[0]! * s;
-      out.p[2] = ph.z0 + ph.rise * sm[0]!;
-      out.v[0] = sd[1]! * c;
-      out.v[1] = sd[1]! * s;
-      out.v[2] = sd[1]! * slope;
-      out.a[0] = sd[2]! * c;
-      out.a[1] = sd[2]! * s;
-      out.a[2] = sd[2]! * slope + curv * sd[1]! * sd[1]!;
-      // Climbing tilts the nose up, which is a negative pitch in the ZYX convention with z up.
-      out.euler[1] = -Math.atan(slope);
-      out.eulerRate[1] = -(curv * sd[1]!) / (1 + slope * slope);
-      u = sd[1]! / V_REF;
-      u1 = sd[2]! / V_REF;
-      u2 = sd[3]! / V_REF;
-    } else if (ph.kind === KIND_ARC) {
-      const r = ph.length, sg = ph.sign;
-      const cx = ph.x0 - sg * r * Math.sin(ph.yaw0), cy = ph.y0 + sg * r * Math.cos(ph.yaw0);
-      const alpha = ph.yaw0 - (sg * Math.PI) / 2 + (sg * sd[0]!) / r;
-      const a1 = (sg * sd[1]!) / r, a2 = (sg * sd[2]!) / r;
-      const ca = Math.cos(alpha), sa = Math.sin(alpha);
-      out.p[0] = cx + r * ca;
-      out.p[1] = cy + r * sa;
-      out.v[0] = -r * a1 * sa;
-      out.v[1] = r * a1 * ca;
-      out.a[0] = -r * a2 * sa - r * a1 * a1 * ca;
-      out.a[1] = r * a2 * ca - r * a1 * a1 * sa;
-      out.euler[2] = ph.yaw0 + (sg * sd[0]!) / r;
-      out.eulerRate[2] = a1;
-      u = sd[1]! / V_REF;
-      u1 = sd[2]! / V_REF;
-      u2 = sd[3]! / V_REF;
-    } else if (ph.kind === KIND_TURN) {
+    vec3Set(out.euler, 0, 0, ph.yaw0);
+    vec3Set(out.p, ph.x0, ph.y0, ph.z0);
+    if (ph.kind === KIND_TURN) {
       out.euler[2] = ph.yaw0 + ph.sign * sd[0]!;
       out.eulerRate[2] = ph.sign * sd[1]!;
-    }
-    if (u !== 0 || u1 !== 0) {
-      const sr = Math.sin(wr * tRel + pr), sp = Math.sin(wp * tRel + pp), sz = Math.sin(wz * tRel + pz);
-      const cr = Math.cos(wr * tRel + pr), cp = Math.cos(wp * tRel + pp), cz = Math.cos(wz * tRel + pz);
-      out.euler[0]! += rollAmp * u * sr;
-      out.eulerRate[0]! += rollAmp * (u1 * sr + u * wr * cr);
-      out.euler[1]! += pitchAmp * u * sp;
-      out.eulerRate[1]! += pitchAmp * (u1 * sp + u * wp * cp);
-      out.p[2]! += bounceAmp * u * sz;
-      out.v[2]! += bounceAmp * (u1 * sz + u * wz * cz);
-      out.a[2]! += bounceAmp * (u2 * sz + 2 * u1 * wz * cz - u * wz * wz * sz);
+    } else if (ph.kind === KIND_LINE || ph.kind === KIND_ARC) {
+      if (ph.kind === KIND_LINE) evalLine(ph, out);
+      else evalArc(ph, out);
+      if (sd[1] !== 0 || sd[2] !== 0) vibrate(out, tRel, sd[1]! / V_REF, sd[2]! / V_REF, sd[3]! / V_REF);
     }
     return out;
   };
+}
+
+function vec3Set(out: Float64Array, x: number, y: number, z: number): void {
+  out[0] = x;
+  out[1] = y;
+  out[2] = z;
 }

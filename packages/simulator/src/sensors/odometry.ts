@@ -101,6 +101,39 @@ export function createOdometryGenerator(s: Scenario): OdometryGenerator {
     return sc;
   }
 
+  /** Advances the reported pose to frame k at tRel by one noisy relative motion (frame 0: the true pose). */
+  function advance(k: number, tRel: number): void {
+    truePose(tRel);
+    if (k === 0) {
+      vec3.scale(pRep, pTrue, 1 / spec.scale);
+      quat.copy(qRep, qTrue);
+    } else {
+      vec3.sub(d, pTrue, pPrev);
+      const len = vec3.norm(d);
+      const turn = quat.angleBetween(qPrev, qTrue);
+      latchLinearStarts(tRel);
+      dist += len;
+      scaleErr += sigScaleRw * Math.sqrt(len) * g();
+      yawDrift += yawDriftPerM * len + sigYaw * Math.sqrt(len + 0.2 * turn) * g();
+      const f = (1 + scaleBias + scaleErr) / scaleAt(tRel);
+      const nt = sigT * Math.sqrt(len);
+      vec3.set(tmp, d[0]! * f + nt * g(), d[1]! * f + nt * g(), d[2]! * f + nt * g());
+      // Heading drift rotates both the accumulated increments and the attitude about the world z axis.
+      quat.fromRotationVector(qd, 0, 0, yawDrift);
+      quat.rotateVec3(tmp, qd, tmp);
+      vec3.add(pRep, pRep, tmp);
+      quat.multiply(qRep, qd, qTrue);
+      if (real) quat.multiply(qRep, qRep, quat.fromRotationVector(jitter, sigJitter * g(), sigJitter * g(), sigJitter * g()));
+      for (let i = 0; i < jumps.length; i++) {
+        const at = jumps[i]!.startS ?? 0;
+        if (tRel >= at && tRel - dt < at) vec3.scaleAndAdd(pRep, pRep, jumpDirs[i]!, jumps[i]!.magnitude / spec.scale);
+      }
+    }
+    vec3.copy(pPrev, pTrue);
+    quat.copy(qPrev, qTrue);
+    if (qRep[0]! < 0) quat.set(qRep, -qRep[0]!, -qRep[1]!, -qRep[2]!, -qRep[3]!);
+  }
+
   return {
     count,
     fill(k0, n, out) {
@@ -109,34 +142,7 @@ export function createOdometryGenerator(s: Scenario): OdometryGenerator {
       const end = Math.min(count, k0 + n);
       for (let k = k0; k < end; k++) {
         const tRel = k * dt;
-        truePose(tRel);
-        if (k === 0) {
-          vec3.scale(pRep, pTrue, 1 / spec.scale);
-          quat.copy(qRep, qTrue);
-        } else {
-          vec3.sub(d, pTrue, pPrev);
-          const len = vec3.norm(d);
-          const turn = quat.angleBetween(qPrev, qTrue);
-          latchLinearStarts(tRel);
-          dist += len;
-          scaleErr += sigScaleRw * Math.sqrt(len) * g();
-          yawDrift += yawDriftPerM * len + sigYaw * Math.sqrt(len + 0.2 * turn) * g();
-          const sc = scaleAt(tRel);
-          const f = (1 + scaleBias + scaleErr) / sc;
-          const nt = sigT * Math.sqrt(len);
-          vec3.set(tmp, d[0]! * f + nt * g(), d[1]! * f + nt * g(), d[2]! * f + nt * g());
-          quat.fromRotationVector(qd, 0, 0, yawDrift);
-          quat.rotateVec3(tmp, qd, tmp);
-          vec3.add(pRep, pRep, tmp);
-          quat.multiply(qRep, qd, qTrue);
-          if (real) quat.multiply(qRep, qRep, quat.fromRotationVector(jitter, sigJitter * g(), sigJitter * g(), sigJitter * g()));
-          for (let i = 0; i < jumps.length; i++) {
-            const at = jumps[i]!.startS ?? 0;
-            if (tRel >= at && tRel - dt < at) vec3.scaleAndAdd(pRep, pRep, jumpDirs[i]!, jumps[i]!.magnitude / spec.scale);
-          }
-        }
-        vec3.copy(pPrev, pTrue);
-        quat.copy(qPrev, qTrue);
+        advance(k, tRel);
         let inGap = false;
         for (const f of gaps) if (tRel >= (f.startS ?? 0) && tRel < (f.endS ?? 0)) inGap = true;
         if (inGap) continue;
@@ -146,7 +152,6 @@ export function createOdometryGenerator(s: Scenario): OdometryGenerator {
         out.x[j] = pRep[0]!;
         out.y[j] = pRep[1]!;
         out.z[j] = pRep[2]!;
-        if (qRep[0]! < 0) quat.set(qRep, -qRep[0]!, -qRep[1]!, -qRep[2]!, -qRep[3]!);
         out.qw[j] = qRep[0]!;
         out.qx[j] = qRep[1]!;
         out.qy[j] = qRep[2]!;
