@@ -59,13 +59,15 @@ describe('round trip of every CSV type', () => {
     expect(Number.isNaN(columns.hacc[1]!)).toBe(true);
     expect(Number.isNaN(columns.hdop[0]!)).toBe(true); // hdop column absent
   });
-  it('loops.csv with and without sigmas; a header-only loops file is accepted', async () => {
+  it('loops.csv with and without sigmas; header-only loops and GNSS files are accepted', async () => {
     const { columns } = await readLoopsCsv([enc('t_a,t_b,x,y,z,qw,qx,qy,qz\n10,90,0.1,0.2,0.3,1,0,0,0\n')]);
     expect(columns).toMatchObject({ n: 1 });
     expect([columns.tA[0], columns.tB[0], columns.z[0]]).toEqual([10, 90, 0.3]);
     expect(Number.isNaN(columns.sigmaT[0]!)).toBe(true);
     const empty = await readLoopsCsv([enc('t_a,t_b,x,y,z,qw,qx,qy,qz,sigma_t,sigma_r\n')]);
     expect(empty.columns.n).toBe(0);
+    const noFix = await readGnssCsv([enc('t,lat,lon,alt,fix\n')]);
+    expect(noFix.columns.n).toBe(0);
   });
   it('gzip-compressed CSV on disk reads like the plain file', async () => {
     const dir = await tempDir();

@@ -25,7 +25,6 @@ export type BundleErrorCode =
   | 'MANIFEST_INVALID'
   | 'MANIFEST_SYNTAX'
   | 'NMEA_NO_DATE'
-  | 'NMEA_NO_FIXES'
   | 'NMEA_TOO_MANY_BAD_LINES'
   | 'NOT_UTF8';
 

@@ -112,9 +112,11 @@ describe('malformed sentences', () => {
     const e = await bundleError(() => read(`${GGA}\n${RMC}\n${RMC.replace('*6A', '*00')}\n`));
     expect(e).toMatchObject({ code: 'NMEA_TOO_MANY_BAD_LINES', file: 'gnss.nmea', line: 3 });
   });
-  it('no RMC means no date: NMEA_NO_DATE; no GGA: NMEA_NO_FIXES', async () => {
+  it('fixes without any RMC have no date: NMEA_NO_DATE; no fix at all gives empty columns', async () => {
     expect((await bundleError(() => read(`${GGA}\n`))).code).toBe('NMEA_NO_DATE');
-    expect((await bundleError(() => read(`${RMC}\n`))).code).toBe('NMEA_NO_FIXES');
+    const none = await read(`${RMC}\n${sentence('GPGGA,123520,,,,,0,00,99.9,,M,,M,,')}\n`);
+    expect(none.columns.n).toBe(0);
+    expect(none.stats).toMatchObject({ samples: 0, badLines: 0 });
   });
   it('time going backwards is a bad line; a repeated epoch from a second talker is dropped quietly', async () => {
     const text = `${many(200)}\n${sentence('GNGGA,060319.00,4722.926,N,00832.472,E,1,08,0.9,360,M,49.5,M,,')}\n${sentence('GPGGA,060001.00,4722.926,N,00832.472,E,1,08,0.9,360,M,49.5,M,,')}\n`;

@@ -23,7 +23,8 @@ const MAX_FIELDS = 40;
  * `$` and `*`, two hex digits after `*` — is verified; a mismatch is a bad line located at the checksum.
  * Times: GGA hhmmss.ss (UTC) plus the date of the latest RMC gives epoch seconds; GGAs before the first RMC take
  * its date, with a ±12 h rule across midnight. Ellipsoidal height = GGA altitude above MSL + geoid separation
- * (separation taken as 0 when empty). GGAs without a position (quality 0, empty fields) are skipped.
+ * (separation taken as 0 when empty). GGAs without a position (quality 0, empty fields) are skipped; a file
+ * without any position gives empty columns.
  * Source: NMEA 0183 sentence layouts as given by widely reproduced reference guides (from memory).
  */
 export class NmeaParser {
@@ -66,8 +67,8 @@ export class NmeaParser {
         file: this.file, line: first?.line ?? null, column: first?.column ?? null, issues: stats.firstErrors,
       });
     }
-    if (this.store.n === 0) throw new BundleError('NMEA_NO_FIXES', 'no GGA sentence with a position', { file: this.file });
-    if (Number.isNaN(this.dayEpoch)) throw new BundleError('NMEA_NO_DATE', 'GGA sentences but no RMC with a date; cannot form epoch times', { file: this.file });
+    // no fix at all (indoors all shift) is a run without GNSS; fixes without any date cannot be placed in time
+    if (this.store.n > 0 && Number.isNaN(this.dayEpoch)) throw new BundleError('NMEA_NO_DATE', 'GGA sentences but no RMC with a date; cannot form epoch times', { file: this.file });
     const backwards = this.store.dropNonIncreasing();
     for (const line of backwards) this.bad(line, 1, 'time goes backwards');
     const columns = this.store.columns();
