@@ -89,6 +89,17 @@ describe('reports.recordAnalysis', () => {
     expect(store.reports.recordAnalysis(run.id, report({ score: 1, verdict: 'sound' }), t.job_key)).toEqual({ recorded: false, reason: 'wrong-status' });
   });
 
+  it('sets status only from the allowed states and selects ids by filter', () => {
+    const a = store.runs.create(runInput(1)).run;
+    const b = store.runs.create(runInput(2, { robot_id: 'tern-01' })).run;
+    expect(store.runs.setStatus(a.id, 'rejected', { reason: 'manifest robot_id differs', from: ['queued'] })).toBe(false);
+    expect(store.runs.setStatus(a.id, 'rejected', { reason: 'manifest robot_id differs', from: ['received'] })).toBe(true);
+    expect(store.runs.get(a.id)).toMatchObject({ status: 'rejected', status_reason: 'manifest robot_id differs' });
+    expect(store.runs.idsMatching({ robot_id: 'tern-01' })).toEqual([b.id]);
+    expect(store.runs.idsMatching({ status: 'rejected' })).toEqual([a.id]);
+    expect(store.runs.idsMatching({}, 1)).toHaveLength(1);
+  });
+
   it('lists queued and analysing runs as pending tickets', () => {
     const a = store.runs.create(runInput(1)).run;
     const b = store.runs.create(runInput(2)).run;

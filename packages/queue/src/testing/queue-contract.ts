@@ -94,6 +94,21 @@ export function describeQueueContract(name: string, factory: QueueFactory, skip 
       });
     });
 
+    it('counts a job waiting out its backoff as delayed and failed', async () => {
+      await withQueue(factory, { maxAttempts: 3, backoffMs: 60_000 }, async (q) => {
+        await q.enqueue(job(6));
+        let calls = 0;
+        const worker = q.work(async () => {
+          calls += 1;
+          throw new Error('transient');
+        }, { concurrency: 1 });
+        await waitFor(async () => (await q.counts()).failed === 1, 10_000, 'failed count');
+        expect(await q.counts()).toMatchObject({ waiting: 0, active: 0, delayed: 1, failed: 1, dead: 0, completed: 0 });
+        expect(calls).toBe(1);
+        await worker.close();
+      });
+    });
+
     it('dead-letters a job after maxAttempts failed attempts', async () => {
       await withQueue(factory, { maxAttempts: 3, backoffMs: 20 }, async (q) => {
         await q.enqueue(job(8));
