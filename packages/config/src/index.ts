@@ -1,2 +1,3 @@
 export { loadConfig, configReference, ConfigError, CONFIG_VARIABLES } from './config.ts';
 export type { Config } from './config.ts';
+export { loadPolicy } from './policy-file.ts';

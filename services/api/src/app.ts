@@ -31,8 +31,8 @@ export interface Clock {
 /** What upload validation needs from a bundle: its parsed manifest. Throws BundleError for a bad archive. */
 export type InspectBundle = (archivePath: string) => Promise<{ manifest: contracts.RunManifest }>;
 
-/** Streams a trajectory as CSV for the download route; `repaired` applies the report's corrections. */
-export type TrajectoryCsv = (archivePath: string, report: contracts.Report, variant: 'original' | 'repaired') => Readable | Promise<Readable>;
+/** A trajectory as CSV for the download route; `repaired` applies the analysis corrections. */
+export type TrajectoryCsv = (archivePath: string, variant: 'original' | 'repaired') => Promise<string | Readable>;
 
 export interface AppDeps {
   store: Store;

@@ -110,9 +110,9 @@ export function registerRunRoutes(ctx: ApiContext): void {
       const report = store.reports.current(run.id);
       if (!report) throw errors.REPORT_NOT_READY(run.id, run.status);
       if (!ctx.deps.trajectoryCsv) throw errors.NOT_READY('trajectory export is not available in this deployment');
-      const stream = await ctx.deps.trajectoryCsv(blobs.pathOf(run.sha256), report, query.variant);
+      const csv = await ctx.deps.trajectoryCsv(blobs.pathOf(run.sha256), query.variant);
       reply.header('content-disposition', `attachment; filename="${run.robot_id}_${run.run_id}_${query.variant}.csv"`);
-      return reply.type('text/csv; charset=utf-8').send(stream);
+      return reply.type('text/csv; charset=utf-8').send(csv);
     },
   );
   defineRoute(
