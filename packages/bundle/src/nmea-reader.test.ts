@@ -1,3 +1,4 @@
+import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { BundleError } from './errors.ts';
 import { readGnssNmea } from './nmea-reader.ts';
@@ -88,6 +89,44 @@ describe('stream handling', () => {
     expect(columns.n).toBe(2);
     expect(stats.badLines).toBe(0);
     expect(stats.extraColumns).toEqual(['GPGSV']);
+  });
+});
+
+describe('round trip (property)', () => {
+  // common practice: format fixes as GGA/RMC the way receivers do (ddmm.mmmmm), read them back
+  it('time, position, height, quality, satellites and HDOP come back as written', async () => {
+    const fix = fc.record({
+      sec: fc.integer({ min: 0, max: 86399 }),
+      lat: fc.double({ min: -89.999, max: 89.999, noNaN: true }),
+      lon: fc.double({ min: -179.999, max: 179.999, noNaN: true }),
+      msl: fc.double({ min: -400, max: 8000, noNaN: true }),
+      sep: fc.double({ min: -100, max: 100, noNaN: true }),
+      q: fc.constantFrom(1, 2, 4, 5),
+      sats: fc.integer({ min: 4, max: 40 }),
+    });
+    await fc.assert(
+      fc.asyncProperty(fix, async (f) => {
+        const hms = (s: number) => [Math.floor(s / 3600), Math.floor(s / 60) % 60, s % 60].map((v) => String(v).padStart(2, '0')).join('') + '.00';
+        const dm = (deg: number, w: number) => {
+          const a = Math.abs(deg);
+          let d = Math.floor(a), m = ((a - d) * 60).toFixed(5);
+          if (m === '60.00000') [d, m] = [d + 1, '0.00000']; // minutes rounded up to a whole degree
+          return { text: `${String(d).padStart(w, '0')}${m.padStart(8, '0')}`, value: d + Number(m) / 60 };
+        };
+        const la = dm(f.lat, 2), lo = dm(f.lon, 3);
+        const msl = f.msl.toFixed(3), sep = f.sep.toFixed(2);
+        const gga = sentence(`GNGGA,${hms(f.sec)},${la.text},${f.lat < 0 ? 'S' : 'N'},${lo.text},${f.lon < 0 ? 'W' : 'E'},${f.q},${f.sats},0.8,${msl},M,${sep},M,,`);
+        const rmc = sentence(`GNRMC,${hms(f.sec)},A,${la.text},N,${lo.text},E,0,0,150626,,,A`);
+        const { columns } = await read(`${gga}\n${rmc}\n`);
+        expect(columns.n).toBe(1);
+        expect(columns.t[0]).toBe(Date.UTC(2026, 5, 15) / 1000 + f.sec);
+        expect(columns.lat[0]).toBe(f.lat < 0 ? -la.value : la.value);
+        expect(columns.lon[0]).toBe(f.lon < 0 ? -lo.value : lo.value);
+        expect(columns.alt[0]).toBe(Number(msl) + Number(sep));
+        expect([columns.fix[0], columns.sats[0], columns.hdop[0]]).toEqual([f.q, f.sats, 0.8]);
+      }),
+      { numRuns: 100 },
+    );
   });
 });
 
