@@ -46,7 +46,7 @@ describe('openDatabase', () => {
     openDatabase(path, { migrationsDir: migrations }).close();
     // the first statement succeeds, the second fails: the table must not survive
     writeFileSync(join(migrations, '0002_broken.sql'), 'CREATE TABLE half_done (a INTEGER);\nINSERT INTO no_such_table VALUES (1);');
-    expect(() => openDatabase(path, { migrationsDir: migrations })).toThrow(/0002_broken failed and was rolled back: no such table/);
+    expect(() => openDatabase(path, { migrationsDir: migrations })).toThrow(/0002_broken failed and was rolled back: no such table: no_such_table \(.*0002_broken\.sql\)/);
     const raw = new Database(path);
     expect(raw.prepare("SELECT count(*) FROM sqlite_master WHERE name = 'half_done'").pluck().get()).toBe(0);
     expect(versions(raw)).toHaveLength(1);
@@ -68,6 +68,11 @@ describe('openDatabase', () => {
     const file = join(migrations, '0001_initial.sql');
     writeFileSync(file, `${readFileSync(file, 'utf8')}\n-- edited after release\n`);
     expect(() => openDatabase(path, { migrationsDir: migrations })).toThrow(/0001_initial has changed since it was applied/);
+  });
+
+  it('rejects a misnamed migration file, naming it', () => {
+    writeFileSync(join(migrations, '0002_Add-Thing.sql'), 'SELECT 1;');
+    expect(() => openDatabase(':memory:', { migrationsDir: migrations })).toThrow(/0002_Add-Thing\.sql: migration files are named NNNN_lowercase_name\.sql/);
   });
 
   it('rejects a gap in migration numbering', () => {

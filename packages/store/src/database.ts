@@ -12,20 +12,23 @@ export const DEFAULT_MIGRATIONS_DIR = fileURLToPath(new URL('../../../migrations
 export interface MigrationFile {
   version: number;
   name: string;
+  path: string;
   sha256: string;
   sql: string;
 }
 
-const MIGRATION_NAME = /^(\d{4})_([a-z0-9_-]+)\.sql$/;
+const MIGRATION_NAME = /^(\d{4})_([a-z0-9_]+)\.sql$/;
 
-/** Reads `NNNN_name.sql` files in version order; a duplicate version or a gap is a programmer error. */
+/** Reads `NNNN_name.sql` files in version order; a misnamed .sql file, a duplicate version or a gap is refused. */
 export function readMigrations(dir: string): MigrationFile[] {
   const files: MigrationFile[] = [];
   for (const entry of readdirSync(dir)) {
+    if (!entry.endsWith('.sql')) continue;
     const m = MIGRATION_NAME.exec(entry);
-    if (!m) continue;
-    const sql = readFileSync(join(dir, entry), 'utf8');
-    files.push({ version: Number(m[1]), name: m[2] ?? entry, sha256: createHash('sha256').update(sql).digest('hex'), sql });
+    if (!m) throw new MigrationError(`${join(dir, entry)}: migration files are named NNNN_lowercase_name.sql`);
+    const path = join(dir, entry);
+    const sql = readFileSync(path, 'utf8');
+    files.push({ version: Number(m[1]), name: m[2] ?? entry, path, sha256: createHash('sha256').update(sql).digest('hex'), sql });
   }
   files.sort((a, b) => a.version - b.version);
   files.forEach((f, i) => {
@@ -76,7 +79,9 @@ export function migrate(db: Db, dir: string = DEFAULT_MIGRATIONS_DIR): number[] 
     try {
       apply();
     } catch (err) {
-      throw new MigrationError(`migration ${String(file.version).padStart(4, '0')}_${file.name} failed and was rolled back: ${(err as Error).message}`);
+      throw new MigrationError(
+        `migration ${String(file.version).padStart(4, '0')}_${file.name} failed and was rolled back: ${(err as Error).message} (${file.path})`,
+      );
     }
     done.push(file.version);
   }
