@@ -94,3 +94,15 @@ describe(`run list on ${N.toLocaleString('en')} runs`, () => {
     });
   }
 });
+
+describe(`fleet and metrics queries on ${N.toLocaleString('en')} runs`, () => {
+  it('robots.list and stats stay fast', () => {
+    const robots = store.robots.list();
+    expect(robots).toHaveLength(ROBOTS.length);
+    expect(robots.reduce((a, r) => a + r.runs, 0)).toBe(N);
+    expect(robots[0]!.recent_scores).toHaveLength(10);
+    expect(store.stats()).toMatchObject({ runs_total: N, runs_by_status: { done: N } });
+    expect(bestOf3Ms(() => store.robots.list())).toBeLessThan(300);
+    expect(bestOf3Ms(() => store.stats())).toBeLessThan(300);
+  });
+});
