@@ -81,7 +81,7 @@ export const serveCommand: Command = {
       const out = await loadSeeds(app, deps.store, paths, (r) => tokens.robotToken(r), say);
       for (const [robot, t] of Object.entries(tokens.robots())) say(`  robot ${robot.padEnd(10)} ${t}`);
       say(`uploaded ${out.loaded.length}, already stored ${out.skipped}, refused ${out.refused.length}`);
-      if (worker) void reportProgress(deps.store, out.loaded.map((l) => l.id), say);
+      if (worker && out.loaded.length > 0) void reportProgress(deps.store, out.loaded.map((l) => l.id), say);
     }
     return new Promise<number>(() => undefined);
   },
