@@ -7,7 +7,7 @@ export type { SimulatedRun } from './simulate.ts';
 export { writeRun } from './io/write.ts';
 export type { WriteOptions, WrittenRun } from './io/write.ts';
 export { writeLongRun } from './io/long-run.ts';
-export { makeRunSpec, DEFAULT_IMU, FAULT_KINDS, SITES } from './spec.ts';
+export { makeRunSpec, validateRunSpec, DEFAULT_IMU, FAULT_KINDS, SITES } from './spec.ts';
 export type { FaultKind, FaultSpec, ImuNoiseSpec, RunSpec, SiteId } from './spec.ts';
 export { demoFleet } from './fleet.ts';
 export type { FleetRun } from './fleet.ts';

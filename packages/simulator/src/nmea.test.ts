@@ -2,6 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { nmeaAngle, nmeaChecksum, nmeaEpoch, nmeaTime } from './io/nmea.ts';
 import { createGnssBlock } from './sensors/gnss.ts';
 import { parseFault } from './fault-parse.ts';
+import { makeRunSpec, validateRunSpec } from './spec.ts';
 
 describe('NMEA 0183', () => {
   it('checksums of the widely reproduced GGA and RMC examples', () => {
@@ -46,5 +47,14 @@ describe('fault syntax', () => {
     expect(parseFault('imu-gap@40-42.5')).toEqual({ kind: 'imu-gap', magnitude: 0, startS: 40, endS: 42.5 });
     expect(() => parseFault('imu-gap@40')).toThrow(/interval/);
     expect(() => parseFault('units/kelvin')).toThrow(/variant/);
+  });
+});
+
+describe('spec validation', () => {
+  it('names the offending fault and field', () => {
+    expect(() => validateRunSpec(makeRunSpec({ durationS: 30, faults: [{ kind: 'imu-gap', magnitude: 0, startS: 40, endS: 42 }] }))).toThrow(/faults\[0\] \(imu-gap\): time 40 s outside/);
+    expect(() => validateRunSpec(makeRunSpec({ durationS: 5 }))).toThrow(/durationS 5/);
+    expect(() => validateRunSpec(makeRunSpec({ scale: 0 }))).toThrow(/scale must be a positive/);
+    expect(() => validateRunSpec(makeRunSpec())).not.toThrow();
   });
 });

@@ -10,7 +10,7 @@ import { applyImpact, createKinState, finishState } from './motion/kinematics.ts
 import type { ImpactOverlay, KinState, MotionModel } from './motion/kinematics.ts';
 import { createGroundMotion } from './motion/ground.ts';
 import { createHandheldMotion } from './motion/handheld.ts';
-import { SITES } from './spec.ts';
+import { SITES, validateRunSpec } from './spec.ts';
 import type { FaultSpec, RunSpec } from './spec.ts';
 
 const DEG = Math.PI / 180;
@@ -75,6 +75,7 @@ function trueExtrinsic(spec: RunSpec, rng: Rng): RigidPose {
  * ground/handheld model (tests with closed-form motions).
  */
 export function createScenario(spec: RunSpec, motionOverride?: MotionModel): Scenario {
+  validateRunSpec(spec);
   const rng = createRng(spec.seed, 'scenario');
   const site = SITES[spec.site];
   const t0Epoch = Date.parse(spec.startedAt) / 1000;

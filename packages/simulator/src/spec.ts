@@ -129,3 +129,26 @@ export function makeRunSpec(partial: Partial<RunSpec> & { imu?: Partial<ImuNoise
     imu: { ...DEFAULT_IMU, ...imu },
   };
 }
+
+/** Checks a spec before simulation; throws RangeError naming the offending field (programmer or CLI input error). */
+export function validateRunSpec(spec: RunSpec): void {
+  const fail = (msg: string): never => {
+    throw new RangeError(`run spec: ${msg}`);
+  };
+  if (!(spec.site in SITES)) fail(`unknown site "${spec.site}"`);
+  const minS = spec.motion === 'handheld' ? 20 : 12;
+  if (!(spec.durationS >= minS)) fail(`durationS ${spec.durationS} must be at least ${minS} s for ${spec.motion} motion`);
+  for (const [name, v] of [['imuRateHz', spec.imuRateHz], ['odometryRateHz', spec.odometryRateHz], ['scale', spec.scale]] as const) {
+    if (!(v > 0) || !Number.isFinite(v)) fail(`${name} must be a positive number, got ${v}`);
+  }
+  if (!(spec.gnssRateHz >= 0)) fail(`gnssRateHz must be ≥ 0, got ${spec.gnssRateHz}`);
+  spec.faults.forEach((f, i) => {
+    const where = `faults[${i}] (${f.kind})`;
+    if (!FAULT_KINDS.includes(f.kind)) fail(`${where}: unknown kind`);
+    if (!Number.isFinite(f.magnitude)) fail(`${where}: magnitude must be finite`);
+    for (const t of [f.startS, f.endS]) {
+      if (t !== undefined && !(t >= 0 && t <= spec.durationS)) fail(`${where}: time ${t} s outside the run [0, ${spec.durationS}]`);
+    }
+    if (f.startS !== undefined && f.endS !== undefined && f.endS <= f.startS) fail(`${where}: endS ${f.endS} ≤ startS ${f.startS}`);
+  });
+}
