@@ -200,6 +200,8 @@ export function buildTruth(s: Scenario, x: TruthExtras): RunTruth {
       gyro_range_rad_s: r9(spec.imu.gyroRange),
       accel_range_m_s2: r9(spec.imu.accelRange),
       quantisation_bits: spec.noise === 'realistic' ? spec.imu.bits : 0,
+      // Earth rotation (7.29e-5 rad/s) sits far below consumer-MEMS gyro noise and bias; the local frame is inertial.
+      earth_rotation_modelled: false,
     },
     odometry: { rate_hz: spec.odometryRateHz, source: spec.odometrySource, monocular: spec.monocular, stamps: 'odometry clock' },
     gnss:
