@@ -7,6 +7,7 @@ import { collectLoopCandidates, type LoopCandidate } from './candidates.ts';
 import { selectKeyframes } from './keyframes.ts';
 import { gateLoops } from './loop-gating.ts';
 import { createPoseGraph, type GraphMode, type PoseGraph } from './pose-graph.ts';
+import { wrapAngle } from './pose-graph-edges.ts';
 
 /** Drift allowed by the χ² gate: 3 % of path length and 0.05°/m ("suspect" drift levels, common practice). */
 export const GATE_DRIFT_T = 0.03;
@@ -77,14 +78,28 @@ function yawOf(q: Float64Array): number {
   return Math.atan2(2 * (q[0]! * q[3]! + q[1]! * q[2]!), 1 - 2 * (q[2]! * q[2]! + q[3]! * q[3]!));
 }
 
-function setEdge(g: PoseGraph, e: number, from: number, to: number, rel: pose.Pose, sigT: number, sigR: number, R: Float64Array): void {
+const scratchQ = quat.create(), scratchV = new Float64Array(3);
+
+/**
+ * Sets edge e from → to with measured relative pose `rel` (pose of `to` in the body frame of `from`, whose odometry
+ * pose is `a`). Planar graphs need the relative pose in the yaw-only frame of `from`: the body frame may be tilted
+ * (e.g. a camera frame with z forward), so the offset goes to the world through a's full rotation and back through
+ * its yaw alone.
+ */
+function setEdge(g: PoseGraph, e: number, from: number, to: number, a: pose.Pose, rel: pose.Pose, sigT: number, sigR: number, R: Float64Array): void {
   g.from[e] = from;
   g.to[e] = to;
   if (g.mode === 'se3') {
     so3.fromQuat(R, rel.q);
     g.measR.set(R, e * 9);
     g.measT.set(rel.t, e * 3);
-  } else g.measP.set([rel.t[0]!, rel.t[1]!, yawOf(rel.q)], e * 3);
+  } else {
+    quat.rotateVec3(scratchV, a.q, rel.t);
+    const yawA = yawOf(a.q), c = Math.cos(yawA), s = Math.sin(yawA);
+    quat.multiply(scratchQ, a.q, rel.q);
+    const dYaw = wrapAngle(yawOf(scratchQ) - yawA);
+    g.measP.set([c * scratchV[0]! + s * scratchV[1]!, -s * scratchV[0]! + c * scratchV[1]!, dYaw], e * 3);
+  }
   g.infoT[e] = 1 / (sigT * sigT);
   g.infoR[e] = 1 / (sigR * sigR);
 }
@@ -105,13 +120,14 @@ function buildGraph(mode: GraphMode, odo: OdometryColumns, dist: Float64Array, k
     // Odometry edge uncertainty: 3 % of the step and 0.05°/m plus 1 % of the turn, with floors (common practice).
     const sigT = Math.max(GATE_DRIFT_T * d, 0.005);
     const sigR = Math.max(GATE_DRIFT_R_RAD_PER_M * d + 0.01 * quat.angle(rel.q), 1e-3);
-    setEdge(g, k - 1, k - 1, k, rel, sigT, sigR, R);
+    setEdge(g, k - 1, k - 1, k, a, rel, sigT, sigR, R);
   }
   const loopEdges = new Int32Array(cands.length), gates = new Float64Array(cands.length), dofs = new Int32Array(cands.length);
   cands.forEach((c, i) => {
     const e = n - 1 + i;
     // A translation-only loop (GNSS revisit) gets a negligible rotation information.
-    setEdge(g, e, nodeOf.get(c.iA)!, nodeOf.get(c.iB)!, c.meas, c.sigmaT, c.sigmaR ?? 1e3, R);
+    pose.fromColumns(a, odo, c.iA);
+    setEdge(g, e, nodeOf.get(c.iA)!, nodeOf.get(c.iB)!, a, c.meas, c.sigmaT, c.sigmaR ?? 1e3, R);
     loopEdges[i] = e;
     dofs[i] = mode === 'se3' ? (c.sigmaR === null ? 3 : 6) : c.sigmaR === null ? 2 : 3;
   });

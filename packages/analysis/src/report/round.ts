@@ -6,7 +6,7 @@ const EPOCH_KEYS = new Set(['t0']);
 
 function roundNumber(x: number, key: string | null): number {
   if (!Number.isFinite(x)) throw new RangeError(`report value ${key ?? '?'} is not finite (${x})`);
-  if (Number.isInteger(x)) return x;
+  if (Number.isInteger(x)) return x === 0 ? 0 : x;
   if (key !== null && EPOCH_KEYS.has(key)) return Math.round(x * 1e6) / 1e6;
   const r = Number(x.toPrecision(REPORT_DIGITS));
   return Object.is(r, -0) ? 0 : r;
