@@ -19,7 +19,7 @@ const versions = (db: Database.Database) => db.prepare('SELECT version, name FRO
 
 describe('openDatabase', () => {
   it('creates a WAL database with foreign keys and a busy timeout, and applies every migration', () => {
-    const db = openDatabase(join(dir, 'a.db'), { migrationsDir: migrations, busyTimeoutMs: 1234 });
+    const db = openDatabase(join(dir, 'var', 'lib', 'a.db'), { migrationsDir: migrations, busyTimeoutMs: 1234 });
     expect(db.pragma('journal_mode', { simple: true })).toBe('wal');
     expect(db.pragma('foreign_keys', { simple: true })).toBe(1);
     expect(db.pragma('busy_timeout', { simple: true })).toBe(1234);

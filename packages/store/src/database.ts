@@ -1,6 +1,6 @@
 import { createHash } from 'node:crypto';
-import { readdirSync, readFileSync } from 'node:fs';
-import { join } from 'node:path';
+import { mkdirSync, readdirSync, readFileSync } from 'node:fs';
+import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import Database from 'better-sqlite3';
 import { MigrationError } from './errors.ts';
@@ -89,13 +89,15 @@ export function migrate(db: Db, dir: string = DEFAULT_MIGRATIONS_DIR): number[] 
 }
 
 /**
- * Opens (or creates) the SQLite database at `path` (`':memory:'` for tests) with WAL journaling, a busy timeout,
- * foreign keys on, and applies the migrations.
+ * Opens (or creates, with its directory) the SQLite database at `path` (`':memory:'` for tests) with WAL
+ * journaling, a busy timeout, foreign keys on, and applies the migrations.
  */
 export function openDatabase(path: string, opts: OpenDatabaseOptions = {}): Db {
+  const inMemory = path === ':memory:' || path === '';
+  if (!inMemory) mkdirSync(dirname(path), { recursive: true });
   const db = new Database(path);
   try {
-    if (path !== ':memory:') db.pragma('journal_mode = WAL');
+    if (!inMemory) db.pragma('journal_mode = WAL');
     db.pragma(`busy_timeout = ${Math.max(0, Math.floor(opts.busyTimeoutMs ?? 5000))}`);
     db.pragma('foreign_keys = ON');
     // FULL: a run reported as stored survives a power cut, not only a process crash.
