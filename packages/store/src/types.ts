@@ -283,8 +283,9 @@ export interface BlobStore {
   /** Creates an empty temp file for a resumable upload session and returns its path. */
   createTemp(label?: string): Promise<string>;
   /**
-   * Writes `source` into a session temp file at byte `offset` (must equal the file's current size), fsyncs,
-   * and returns the new size. Throws BlobTooLargeError past `maxBytes` (the bytes written beyond offset are cut off).
+   * Writes `source` into a session temp file at byte `offset` (must equal the file's current size, else
+   * BlobOffsetError with `expectedOffset`), fsyncs, and returns the new size. Writes to one file are serialised in
+   * this process. On BlobTooLargeError (past `maxBytes`) or a source error the file is cut back to `offset`.
    */
   appendChunk(tempPath: string, offset: number, source: Readable | AsyncIterable<Uint8Array> | Uint8Array, opts: { maxBytes: number }): Promise<number>;
   /** Hashes a complete temp file; if it matches, moves it to its content address (fsync + rename + dir fsync). */
