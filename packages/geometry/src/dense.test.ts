@@ -169,6 +169,20 @@ describe('dense SVD (one-sided Jacobi)', () => {
       expectClose(Float64Array.from(r.s, (x) => x * x).reverse(), ev, 1e-11 * ev[k - 1]!, 'σ² vs eig(AᵀA)');
     });
   }
+  it('handles a tall rank-2 matrix on the QR-preconditioned path (60×8): zero σ and orthonormal completed U', () => {
+    const rng = createRng(39);
+    const b = randomMatrix(rng, 60, 2), c = randomMatrix(rng, 2, 8);
+    const a = dense.multiply(new Float64Array(480), b, c, 60, 2, 8);
+    const r = dense.svd(a, 60, 8);
+    if (!r.ok) throw new Error(r.reason);
+    expect(r.s[1]!).toBeGreaterThan(1);
+    expectClose(r.s.subarray(2), new Float64Array(6), 1e-13 * r.s[0]!, 'σ₃..σ₈'); // rounding level of ‖A‖
+    const ut = dense.transpose(new Float64Array(480), r.u, 60, 8);
+    expectClose(dense.multiply(new Float64Array(64), ut, r.u, 8, 60, 8), dense.identity(new Float64Array(64), 8), 1e-13, 'UᵀU');
+    const us = Float64Array.from(r.u, (x, idx) => x * r.s[idx % 8]!);
+    const vt = dense.transpose(new Float64Array(64), r.v, 8, 8);
+    expectClose(dense.multiply(new Float64Array(480), us, vt, 60, 8, 8), a, 1e-13 * 20 * maxAbs(a), 'U·S·Vᵀ');
+  });
   it('handles a rank-1 matrix: one non-zero singular value and a complete orthonormal U', () => {
     const u0 = [1, 2, 3, 4], v0 = [2, -1, 0.5];
     const a = Float64Array.from({ length: 12 }, (_, k) => u0[Math.floor(k / 3)]! * v0[k % 3]!);

@@ -8,6 +8,8 @@ export { choleskyFactor, choleskySolve, choleskyInverse, luFactor, luSolve, luDe
 export type { FactorResult } from './dense-factor.ts';
 export { leastSquares } from './dense-qr.ts';
 export type { LeastSquaresResult } from './dense-qr.ts';
-export { symmetricEigen, svd } from './dense-eigen.ts';
-export type { EigenResult, SvdResult } from './dense-eigen.ts';
+export { symmetricEigen } from './dense-eigen.ts';
+export type { EigenResult } from './dense-eigen.ts';
+export { svd } from './dense-svd.ts';
+export type { SvdResult } from './dense-svd.ts';
 export { svd3, nearestRotation } from './svd3.ts';

@@ -45,8 +45,10 @@ export function conjugate(out: Quat, a: Quat): Quat {
   return set(out, a[0]!, -a[1]!, -a[2]!, -a[3]!);
 }
 
+/** Euclidean norm. Plain sqrt rather than Math.hypot: ~10× faster in V8, and quaternions never approach overflow. */
 export function norm(a: Quat): number {
-  return Math.hypot(a[0]!, a[1]!, a[2]!, a[3]!);
+  const w = a[0]!, x = a[1]!, y = a[2]!, z = a[3]!;
+  return Math.sqrt(w * w + x * x + y * y + z * z);
 }
 
 export function normalize(out: Quat, a: Quat): Quat {

@@ -65,8 +65,10 @@ export function cross(out: Vec3, a: Vec3, b: Vec3): Vec3 {
   return out;
 }
 
+/** Euclidean norm. Plain sqrt rather than Math.hypot (~10× faster in V8); overflows only beyond ~1e154. */
 export function norm(a: Vec3): number {
-  return Math.hypot(a[0]!, a[1]!, a[2]!);
+  const x = a[0]!, y = a[1]!, z = a[2]!;
+  return Math.sqrt(x * x + y * y + z * z);
 }
 
 export function normalize(out: Vec3, a: Vec3): Vec3 {
