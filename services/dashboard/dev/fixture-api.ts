@@ -29,25 +29,34 @@ const FLEET: [FixtureOptions['robotId'], FixtureOptions['site'], FixtureOptions[
 
 const SEV_RANK: Record<Severity, number> = { info: 1, warn: 2, critical: 3 };
 
-export function buildFixtureRuns(): FixtureRun[] {
-  return FLEET.map(([robotId, site, fault, durationS], i) => {
-    const startedAt = new Date(Date.UTC(2026, 10, 30, 5 + i, 10 * i, 0)).toISOString();
-    const runId = `${startedAt.slice(0, 10)}-shift-${String(i + 1).padStart(2, '0')}`;
-    const report = buildFixtureReport({ robotId, runId, site, startedAt, durationS, seed: 11 + i, fault });
+/** Wrap reports as stored runs (summary fields derived from each report the way the store does). */
+export function runsFromReports(reports: readonly Report[]): FixtureRun[] {
+  return reports.map((report, i) => {
     const counts: Record<string, number> = {};
     let worst: Severity | null = null;
     for (const f of report.flags) {
       counts[f.kind] = (counts[f.kind] ?? 0) + 1;
       if (!worst || SEV_RANK[f.severity] > SEV_RANK[worst]) worst = f.severity;
     }
+    const r = report.run;
     const summary: RunSummary = {
-      id: `run-${String(i + 1).padStart(4, '0')}`, robot_id: robotId, run_id: runId, site, started_at: startedAt,
-      received_at: new Date(Date.parse(startedAt) + (durationS + 300) * 1000).toISOString(), status: 'done', status_reason: null,
-      sha256: String(i).padStart(64, 'a'), size_bytes: Math.round(durationS * 9000), score: report.score, verdict: report.verdict,
-      worst_severity: worst, flag_counts: counts, duration_s: durationS, distance_m: report.run.distance_m, decision: null, reviewed_at: null,
+      id: `run-${String(i + 1).padStart(4, '0')}`, robot_id: r.robot_id, run_id: r.run_id, site: r.site, started_at: r.started_at,
+      received_at: new Date(Date.parse(r.started_at) + (r.duration_s + 300) * 1000).toISOString(), status: 'done', status_reason: null,
+      sha256: String(i).padStart(64, 'a'), size_bytes: Math.round(r.duration_s * 9000), score: report.score, verdict: report.verdict,
+      worst_severity: worst, flag_counts: counts, duration_s: r.duration_s, distance_m: r.distance_m, decision: null, reviewed_at: null,
     };
-    return { summary, report, reviews: [], audit: [{ id: i * 100 + 1, at: summary.received_at, actor: robotId, action: 'run.uploaded', subject: summary.id, detail: { sha256: summary.sha256 } }] };
+    return { summary, report, reviews: [], audit: [{ id: i * 100 + 1, at: summary.received_at, actor: r.robot_id, action: 'run.uploaded', subject: summary.id, detail: { sha256: summary.sha256 } }] };
   });
+}
+
+export function buildFixtureRuns(): FixtureRun[] {
+  return runsFromReports(
+    FLEET.map(([robotId, site, fault, durationS], i) => {
+      const startedAt = new Date(Date.UTC(2026, 10, 30, 5 + i, 10 * i, 0)).toISOString();
+      const runId = `${startedAt.slice(0, 10)}-shift-${String(i + 1).padStart(2, '0')}`;
+      return buildFixtureReport({ robotId, runId, site, startedAt, durationS, seed: 11 + i, fault });
+    }),
+  );
 }
 
 function send(res: ServerResponse, status: number, body: unknown, type = 'application/json'): void {

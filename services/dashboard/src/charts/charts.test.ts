@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { niceTicks, timeTicks } from './canvas-util.ts';
 import { indexAtTime } from './cursor.ts';
-import { pathBounds } from './map-view.ts';
+import { alignForDisplay, isRunWide, pathBounds, transformPath } from './map-data.ts';
 import { valueRange } from './time-plot.ts';
 
 describe('niceTicks', () => {
@@ -65,7 +65,7 @@ describe('ranges', () => {
 describe('map stretches', () => {
   it('draws segments with their flag ids and adds flags outside any segment', async () => {
     const { buildFixtureReport } = await import('../../dev/fixture-report.ts');
-    const { mapStretches } = await import('./map-view.ts');
+    const { mapStretches } = await import('./map-data.ts');
     const rep = buildFixtureReport({ robotId: 'kestrel-01', runId: 'r', site: 'harbourside-depot', startedAt: '2026-11-30T06:00:00Z', durationS: 3600, seed: 2, fault: 'scale' });
     const flags = rep.flags.slice(0, 2);
     const merged = { ...rep, segments: [{ id: 'segment-1', t_start: 10, t_end: 20, distance_start_m: 5, distance_end_m: 9, severity: 'critical' as const, kinds: ['scale-drift' as const], flag_ids: ['a-1', 'a-2', 'a-3', flags[0]!.id] }], flags };
@@ -86,5 +86,49 @@ describe('threshold rules', () => {
     const [lo, hi] = valueRange(series, th);
     expect(lo).toBeCloseTo(5 - 15 * 0.08, 12);
     expect(hi).toBeCloseTo(20 + 15 * 0.08, 12);
+  });
+});
+
+describe('GNSS display alignment', () => {
+  // Umeyama's worked example (IEEE TPAMI 13(4), 1991 — from memory; re-derived numerically in CHECK-VALUES):
+  // X = {(0,0),(1,0),(0,2)} onto Y = {(0,0),(−1,0),(0,2)} gives R = [[0.8321, 0.5547],[−0.5547, 0.8321]].
+  // The rotation does not depend on the scale, so the rigid fit must find the same R; tolerance 1e-4 = table rounding.
+  const g = { frame: 'enu', t: [0, 1, 2], x: [0, 1, 0], y: [0, 0, 2], z: [0, 0, 0], fix: [4, 4, 4] };
+  const p = { frame: 'odometry-world', t: [0, 1, 2], x: [0, -1, 0], y: [0, 0, 2], z: [0, 0, 0] };
+  it('recovers the rotation of the worked example', () => {
+    const r = alignForDisplay(g, p)!;
+    expect(Math.cos(r.thetaRad)).toBeCloseTo(0.8321, 4);
+    expect(Math.sin(r.thetaRad)).toBeCloseTo(-0.5547, 4);
+    // Rigid fit: the GNSS centroid lands on the path centroid (exact up to rounding, 1e-12).
+    const moved = transformPath(g, r);
+    expect(moved.x.reduce((a, b) => a + b, 0) / 3).toBeCloseTo(-1 / 3, 12);
+    expect(moved.y.reduce((a, b) => a + b, 0) / 3).toBeCloseTo(2 / 3, 12);
+  });
+  it('undoes a known rotation and shift exactly', () => {
+    const th = 0.7;
+    const src = { frame: 'enu', t: [0, 1, 2, 3], x: [0, 4, 4, 0], y: [0, 0, 3, 3], z: [0, 0, 0, 0], fix: [4, 4, 1, 4] };
+    const dst = transformPath({ ...src, frame: 'odometry-world' }, { thetaRad: th, tx: 12, ty: -5, pairs: 4 });
+    const r = alignForDisplay(src, dst)!;
+    expect(r.thetaRad).toBeCloseTo(th, 12);
+    expect(r.tx).toBeCloseTo(12, 10);
+    expect(r.ty).toBeCloseTo(-5, 10);
+  });
+  it('refuses fewer than three usable fixes (fix quality 0 is unusable)', () => {
+    expect(alignForDisplay({ ...g, fix: [4, 0, 4] }, p)).toBeNull();
+  });
+});
+
+describe('run-wide findings', () => {
+  it('treats flags covering 90 % of the run as run-level', () => {
+    expect(isRunWide({ t_start: 0, t_end: 240 }, 240)).toBe(true);
+    expect(isRunWide({ t_start: 10, t_end: 200 }, 240)).toBe(false);
+  });
+  it('keeps info notes and run-wide flags off the map', async () => {
+    const { buildFixtureReport } = await import('../../dev/fixture-report.ts');
+    const { mapStretches } = await import('./map-data.ts');
+    const rep = buildFixtureReport({ robotId: 'kestrel-01', runId: 'r', site: 'harbourside-depot', startedAt: '2026-11-30T06:00:00Z', durationS: 3600, seed: 2, fault: 'clean' });
+    const f = (id: string, severity: 'info' | 'warn', t_start: number, t_end: number) => ({ id, kind: 'units' as const, severity, t_start, t_end, distance_start_m: 0, distance_end_m: 1, value: 1, threshold: 1, unit: '', message: '', check: '' });
+    const withFlags = { ...rep, segments: [], flags: [f('units-1', 'warn', 0, 3600), f('units-2', 'info', 100, 200), f('units-3', 'warn', 100, 200)] };
+    expect(mapStretches(withFlags).map((s) => s.label)).toEqual(['units-3']);
   });
 });

@@ -1,32 +1,14 @@
-import type { Flag, Loop, Path, Report } from '@plumbline/contracts';
+import type { Loop, Path, Report } from '@plumbline/contracts';
 import { SEVERITY_STYLE, fmtDuration } from '../format.ts';
 import { haloText, setupCanvas, severityDash } from './canvas-util.ts';
 import { indexAtTime, type TimeCursor } from './cursor.ts';
+import { alignForDisplay, mapStretches, pathBounds, transformPath, type Stretch } from './map-data.ts';
 
 /** World-to-screen transform: uniform scale (maps must not be stretched), y up. */
 interface View {
   cx: number;
   cy: number;
   pxPerM: number;
-}
-
-export function pathBounds(paths: readonly (Path | null | undefined)[]): [number, number, number, number] {
-  let x0 = Infinity;
-  let y0 = Infinity;
-  let x1 = -Infinity;
-  let y1 = -Infinity;
-  for (const p of paths) {
-    if (!p) continue;
-    for (let i = 0; i < p.x.length; i++) {
-      const x = p.x[i]!;
-      const y = p.y[i]!;
-      if (x < x0) x0 = x;
-      if (x > x1) x1 = x;
-      if (y < y0) y0 = y;
-      if (y > y1) y1 = y;
-    }
-  }
-  return Number.isFinite(x0) ? [x0, y0, x1, y1] : [-1, -1, 1, 1];
 }
 
 /**
@@ -36,7 +18,7 @@ export function pathBounds(paths: readonly (Path | null | undefined)[]): [number
 export function createMapView(report: Report, cursor: TimeCursor, height = 420): HTMLElement {
   const traj = report.series.trajectory;
   const repaired = report.series.repaired_trajectory;
-  const gnss = report.series.gnss_fixes;
+  const gnss = displayGnss(report);
   const stage = document.createElement('div');
   stage.className = 'map-stage';
   const base = document.createElement('canvas');
@@ -110,6 +92,7 @@ export function createMapView(report: Report, cursor: TimeCursor, height = 420):
   }
 
   function drawStretches(ctx: CanvasRenderingContext2D, stretches: readonly Stretch[]): void {
+    const placed: [number, number, number, number][] = [];
     for (const st of stretches) {
       const i0 = indexAtTime(traj.t, st.t_start);
       const i1 = Math.min(Math.max(indexAtTime(traj.t, st.t_end), i0 + 1), traj.x.length - 1);
@@ -136,7 +119,19 @@ export function createMapView(report: Report, cursor: TimeCursor, height = 420):
       ctx.font = 'bold 12px system-ui, "DejaVu Sans", sans-serif';
       ctx.textAlign = 'left';
       ctx.textBaseline = 'bottom';
-      haloText(ctx, `${style.glyph} ${st.label}`, mx + 8, my - 6);
+      placeLabel(ctx, placed, `${style.glyph} ${st.label}`, mx + 8, my - 6);
+    }
+  }
+
+  /** Draw a label at the first of a few offsets where it overlaps no earlier label; leave it out otherwise. */
+  function placeLabel(ctx: CanvasRenderingContext2D, placed: [number, number, number, number][], text: string, x: number, y: number): void {
+    const tw = ctx.measureText(text).width;
+    for (const dy of [0, 16, -16, 32, -32]) {
+      const box: [number, number, number, number] = [x, y + dy - 14, x + tw, y + dy];
+      if (placed.some((b) => box[0] < b[2] && box[2] > b[0] && box[1] < b[3] && box[3] > b[1])) continue;
+      placed.push(box);
+      haloText(ctx, text, x, y + dy);
+      return;
     }
   }
 
@@ -290,21 +285,13 @@ export function createMapView(report: Report, cursor: TimeCursor, height = 420):
   return stage;
 }
 
-/** A flagged stretch of path to draw: a segment of merged flags, or a flag that belongs to no segment. */
-export interface Stretch {
-  t_start: number;
-  t_end: number;
-  severity: Flag['severity'];
-  label: string;
-}
-
-/** Segments first (labelled with up to two flag ids), then flags no segment covers; keeps a busy run readable. */
-export function mapStretches(report: Report): Stretch[] {
-  const covered = new Set(report.segments.flatMap((s) => s.flag_ids));
-  const ids = (list: readonly string[]): string => (list.length <= 2 ? list.join(', ') : `${list.slice(0, 2).join(', ')} +${list.length - 2}`);
-  const out: Stretch[] = report.segments.map((s) => ({ t_start: s.t_start, t_end: s.t_end, severity: s.severity, label: ids(s.flag_ids) }));
-  for (const f of report.flags) if (!covered.has(f.id)) out.push({ t_start: f.t_start, t_end: f.t_end, severity: f.severity, label: f.id });
-  return out;
+/** GNSS fixes in the path's frame: as given when the frames match, else rigidly aligned for display (or none). */
+export function displayGnss(report: Report): (Path & { fix: number[] }) | null {
+  const g = report.series.gnss_fixes;
+  const traj = report.series.trajectory;
+  if (!g || g.frame === traj.frame) return g;
+  const r = alignForDisplay(g, traj);
+  return r ? transformPath(g, r) : null;
 }
 
 interface MapInteraction {

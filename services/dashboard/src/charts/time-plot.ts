@@ -6,6 +6,8 @@ import { indexAtTime, type TimeCursor } from './cursor.ts';
 export interface TimePlotOptions {
   name: string;
   label: string;
+  /** Extra caption text, e.g. run-wide findings that are not shaded. */
+  note?: string;
   series: Series;
   /** Flags whose intervals are shaded on this plot. */
   flags: readonly Flag[];
@@ -50,6 +52,12 @@ export function createTimePlot(opts: TimePlotOptions): HTMLElement {
   wrap.dataset.series = opts.name;
   const caption = document.createElement('figcaption');
   caption.textContent = opts.series.unit ? `${opts.label} (${opts.series.unit})` : opts.label;
+  if (opts.note) {
+    const note = document.createElement('span');
+    note.className = 'plot-note';
+    note.textContent = ` · ${opts.note}`;
+    caption.append(note);
+  }
   const stage = document.createElement('div');
   stage.className = 'plot-stage';
   const base = document.createElement('canvas');

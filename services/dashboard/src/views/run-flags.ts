@@ -13,12 +13,21 @@ export interface FlagList {
   setDisposition(d: FlagDisposition): void;
 }
 
-/** Flags in time order with their plain-language message, measured vs threshold, what to check, and a disposition. */
-export function renderFlagList(flags: readonly Flag[], draft: ReviewDraft, cursor: TimeCursor): FlagList {
+const SEV_ORDER = { critical: 0, warn: 1, info: 2 } as const;
+
+/**
+ * Flags, worst first then in time order, with their plain-language message, measured vs threshold, what to check
+ * and a disposition. Info notes sit in a collapsed group so warnings and critical findings lead.
+ */
+export function renderFlagList(all: readonly Flag[], draft: ReviewDraft, cursor: TimeCursor): FlagList {
+  const flags = [...all].sort((a, b) => SEV_ORDER[a.severity] - SEV_ORDER[b.severity] || a.t_start - b.t_start);
   let sel = -1;
   const items: HTMLElement[] = [];
   const selects = new Map<string, HTMLSelectElement>();
   const list = h('ol', { class: 'flags' });
+  const infoList = h('ol', { class: 'flags' });
+  const infoCount = flags.filter((f) => f.severity === 'info').length;
+  const infoGroup = h('details', { class: 'info-flags' }, h('summary', {}, `Info notes (${infoCount})`), infoList);
   flags.forEach((f, i) => {
     const entry = draft.flags.get(f.id)!;
     const s = SEVERITY_STYLE[f.severity];
@@ -47,16 +56,18 @@ export function renderFlagList(flags: readonly Flag[], draft: ReviewDraft, curso
     );
     li.querySelector('.flag-id')?.addEventListener('click', () => api.select(i));
     items.push(li);
-    list.append(li);
+    (f.severity === 'info' ? infoList : list).append(li);
   });
+  const body = h('div', { class: 'flag-groups' }, list.childElementCount ? list : h('p', { class: 'muted small' }, 'No warnings or critical findings.'), infoCount ? infoGroup : null);
 
   const api: FlagList = {
-    el: flags.length ? list : h('p', { class: 'empty' }, 'No flags: nothing above the thresholds of the policy.'),
+    el: flags.length ? body : h('p', { class: 'empty' }, 'No flags: nothing above the thresholds of the policy.'),
     select(i) {
       sel = flags.length === 0 || i < 0 ? -1 : ((i % flags.length) + flags.length) % flags.length;
       items.forEach((li, k) => li.classList.toggle('selected', k === sel));
       const f = sel >= 0 ? flags[sel] : undefined;
       cursor.set(f ? { range: { t0: f.t_start, t1: f.t_end, label: f.id }, pinnedT: (f.t_start + f.t_end) / 2 } : { range: null });
+      if (f?.severity === 'info') infoGroup.open = true;
       if (f) items[sel]?.scrollIntoView({ block: 'nearest' });
     },
     selected: () => sel,

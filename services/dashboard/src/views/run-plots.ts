@@ -1,6 +1,7 @@
 import type { Flag, FlagKind, Report, Series } from '@plumbline/contracts';
 import { createTimePlot } from '../charts/time-plot.ts';
 import type { TimeCursor } from '../charts/cursor.ts';
+import { isRunWide } from '../charts/map-data.ts';
 
 /** Known series, in display order, with the flag kinds they are evidence for. Unknown series follow, A–Z. */
 const KNOWN: { key: string; label: string; kinds: FlagKind[] }[] = [
@@ -25,8 +26,11 @@ export function labelFor(key: string): string {
   return words.map((w, i) => (w === 'imu' || w === 'gnss' ? w.toUpperCase() : i === 0 ? w[0]!.toUpperCase() + w.slice(1) : w)).join(' ');
 }
 
-/** Plot order and the flags shaded on each: related kinds hatched with their id; series with no known kinds get all. */
-export function plotPlan(report: Report): { key: string; label: string; series: Series; flags: Flag[] }[] {
+/**
+ * Plot order and the flags shaded on each: related kinds hatched with their id; series with no known kinds get all.
+ * Run-wide findings are named in the caption instead of hatching the whole plot.
+ */
+export function plotPlan(report: Report): { key: string; label: string; series: Series; flags: Flag[]; runWide: Flag[] }[] {
   const entries = Object.entries(report.series).filter((e): e is [string, Series] => isSeries(e[1]));
   const rank = (k: string): number => {
     const i = KNOWN.findIndex((x) => x.key === k);
@@ -35,8 +39,9 @@ export function plotPlan(report: Report): { key: string; label: string; series: 
   entries.sort((a, b) => rank(a[0]) - rank(b[0]) || a[0].localeCompare(b[0]));
   return entries.map(([key, series]) => {
     const kinds = KNOWN.find((k) => k.key === key)?.kinds ?? (key.startsWith('imu') ? IMU_KINDS : null);
-    const flags = kinds ? report.flags.filter((f) => kinds.includes(f.kind)) : [...report.flags];
-    return { key, label: labelFor(key), series, flags };
+    const related = kinds ? report.flags.filter((f) => kinds.includes(f.kind)) : [...report.flags];
+    const wide = (f: Flag): boolean => isRunWide(f, report.run.duration_s);
+    return { key, label: labelFor(key), series, flags: related.filter((f) => !wide(f)), runWide: related.filter(wide) };
   });
 }
 
@@ -49,7 +54,8 @@ export function renderPlots(report: Report, cursor: TimeCursor): HTMLElement {
     return box;
   }
   for (const p of plan) {
-    box.append(createTimePlot({ name: p.key, label: p.label, series: p.series, flags: p.flags, durationS: report.run.duration_s, cursor, height: p.key.startsWith('imu') ? 90 : 110 }));
+    const note = p.runWide.length ? `whole run: ${p.runWide.map((f) => `${f.id} (${f.severity})`).join(', ')}` : undefined;
+    box.append(createTimePlot({ name: p.key, label: p.label, note, series: p.series, flags: p.flags, durationS: report.run.duration_s, cursor, height: p.key.startsWith('imu') ? 90 : 110 }));
   }
   return box;
 }

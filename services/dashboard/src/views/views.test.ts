@@ -57,6 +57,13 @@ describe('plot plan', () => {
     expect(plan.find((p) => p.key === 'scale')!.flags.map((f) => f.id)).toEqual(['scale-drift-1']);
     expect(plan.find((p) => p.key === 'gravity_tilt_deg')!.flags).toEqual([]);
   });
+  it('names run-wide flags instead of hatching the whole plot', () => {
+    const wide = { ...rep.flags[0]!, id: 'scale-drift-9', t_start: 0, t_end: 3600 };
+    const plan = plotPlan({ ...rep, flags: [...rep.flags, wide] });
+    const scale = plan.find((p) => p.key === 'scale')!;
+    expect(scale.flags.map((f) => f.id)).toEqual(['scale-drift-1']);
+    expect(scale.runWide.map((f) => f.id)).toEqual(['scale-drift-9']);
+  });
   it('labels unknown series from their key without the unit suffix', () => {
     expect(labelFor('imu_gyro_z_rad_s')).toBe('IMU gyro z');
     expect(labelFor('wheel_slip_pct')).toBe('Wheel slip');
