@@ -5,6 +5,7 @@ import type { JobQueue, QueueWorker } from '@plumbline/queue';
 import { createAnalyseRunProcessor, type AnalyseRunDeps, type Analyze } from './processors/analyse-run.ts';
 import { startWebhookDispatcher, type WebhookDispatcher } from './webhooks/dispatcher.ts';
 import { createPolicyResolver } from './policy.ts';
+import { startMaintenance } from './maintenance.ts';
 
 export interface WorkerDeps {
   store: Store;
@@ -28,7 +29,7 @@ export interface RunningWorker {
 }
 
 /**
- * Starts analysis workers on the queue and the webhook dispatcher. Used by the standalone worker (Redis mode) and,
+ * Starts analysis workers on the queue, the webhook dispatcher and the upload housekeeping. Used by the standalone worker (Redis mode) and,
  * in embedded mode, inside the API process (`startEmbeddedWorker`).
  */
 export async function startWorker(config: Pick<Config, 'workerConcurrency' | 'policyFile'>, deps: WorkerDeps): Promise<RunningWorker> {
@@ -61,10 +62,12 @@ export async function startWorker(config: Pick<Config, 'workerConcurrency' | 'po
     ...(deps.fetch ? { fetch: deps.fetch } : {}),
     ...(deps.dispatcherIntervalMs ? { intervalMs: deps.dispatcherIntervalMs } : {}),
   });
+  const stopMaintenance = startMaintenance({ store: deps.store, blobs: deps.blobs, logger: deps.logger.child({ component: 'maintenance' }), clock: deps.clock });
   return {
     dispatcher,
     recover,
     async close() {
+      stopMaintenance();
       await qw.close();
       await dispatcher.stop();
     },
