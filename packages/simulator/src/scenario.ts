@@ -75,7 +75,7 @@ function trueExtrinsic(spec: RunSpec, rng: Rng): RigidPose {
  * ground/handheld model (tests with closed-form motions).
  */
 export function createScenario(spec: RunSpec, motionOverride?: MotionModel): Scenario {
-  validateRunSpec(spec);
+  validateRunSpec(spec, motionOverride !== undefined);
   const rng = createRng(spec.seed, 'scenario');
   const site = SITES[spec.site];
   const t0Epoch = Date.parse(spec.startedAt) / 1000;
