@@ -13,8 +13,6 @@ import type { Db, Store } from './types.ts';
  */
 const N = 100_000;
 const ROBOTS = ['kestrel-01', 'kestrel-02', 'kestrel-03', 'plover-01', 'plover-02', 'heron-01', 'wren-01', 'tern-01'];
-const VERDICTS = ['sound', 'doubtful', 'unfit'];
-const KINDS = ['scale-drift', 'time-offset', 'loop-drift', 'imu-gap'];
 
 function bestOf3Ms(fn: () => unknown): number {
   let best = Infinity;
@@ -33,26 +31,37 @@ beforeAll(() => {
   db = openDatabase(':memory:');
   store = createStore(db);
   const robot = db.prepare('INSERT INTO robots (robot_id, site, created_at) VALUES (?, ?, ?)');
-  const run = db.prepare(
-    `INSERT INTO runs (id, robot_id, run_id, site, started_at, received_at, status, sha256, size_bytes, score, verdict, worst_severity, priority)
-     VALUES (?, ?, ?, ?, ?, ?, 'done', ?, 1000, ?, ?, ?, ?)`,
-  );
-  const flag = db.prepare(`INSERT INTO flags (run, report_id, flag_id, kind, severity, t_start, t_end, value) VALUES (?, 0, ?, ?, 'warn', 0, 1, NULL)`);
+  for (const [i, r] of ROBOTS.entries()) robot.run(r, i % 2 ? 'northgate-yard' : 'harbourside-depot', '2026-01-01T00:00:00.000Z');
+  // generated inside SQLite (one statement) to keep the fixture fast: run n is received 5 minutes after run n-1,
+  // robot n % 8, verdict n % 3, score (37 n) % 101, priority n % 4, one flag on every 10th run
+  db.exec(`
+    CREATE TEMP TABLE robot_names (k INTEGER PRIMARY KEY, name TEXT);
+    INSERT INTO robot_names VALUES ${ROBOTS.map((r, i) => `(${i}, '${r}')`).join(', ')};
+    WITH RECURSIVE seq(n) AS (SELECT 0 UNION ALL SELECT n + 1 FROM seq WHERE n < ${N - 1})
+    INSERT INTO runs (id, robot_id, run_id, site, started_at, received_at, status, sha256, size_bytes, score, verdict,
+                      worst_severity, priority)
+    SELECT printf('r%07d', n), (SELECT name FROM robot_names WHERE k = n % 8), 'shift-' || n,
+           CASE n % 2 WHEN 1 THEN 'northgate-yard' ELSE 'harbourside-depot' END,
+           strftime('%Y-%m-%dT%H:%M:%fZ', 1735689600 + n * 300, 'unixepoch'),
+           strftime('%Y-%m-%dT%H:%M:%fZ', 1735689600 + n * 300, 'unixepoch'),
+           'done', printf('%064x', n), 1000, (n * 37) % 101,
+           CASE n % 3 WHEN 0 THEN 'sound' WHEN 1 THEN 'doubtful' ELSE 'unfit' END,
+           CASE n % 3 WHEN 0 THEN NULL WHEN 1 THEN 'warn' ELSE 'critical' END,
+           n % 4
+    FROM seq;
+  `);
   db.pragma('foreign_keys = OFF'); // flags point at report 0, which this bulk fixture does not create
-  db.transaction(() => {
-    for (const [i, r] of ROBOTS.entries()) robot.run(r, i % 2 ? 'northgate-yard' : 'harbourside-depot', '2026-01-01T00:00:00.000Z');
-    const t0 = Date.UTC(2025, 0, 1);
-    for (let n = 0; n < N; n++) {
-      const id = `r${n.toString(36).padStart(6, '0')}`;
-      const when = new Date(t0 + n * 300_000).toISOString();
-      const v = VERDICTS[n % 3]!;
-      run.run(id, ROBOTS[n % 8], `shift-${n}`, n % 2 ? 'northgate-yard' : 'harbourside-depot', when, when, n.toString(16).padStart(64, '0'),
-        (n * 37) % 101, v, v === 'sound' ? null : v === 'doubtful' ? 'warn' : 'critical', n % 4);
-      if (n % 10 === 0) flag.run(id, 'f-1', KINDS[(n / 10) % 4]);
-    }
-  })();
+  db.exec(`
+    INSERT INTO flags (run, report_id, flag_id, kind, severity, t_start, t_end, value)
+    SELECT id, 0, 'f-1', CASE (CAST(substr(id, 2) AS INTEGER) / 10) % 4
+             WHEN 0 THEN 'scale-drift' WHEN 1 THEN 'time-offset' WHEN 2 THEN 'loop-drift' ELSE 'imu-gap' END,
+           'warn', 0, 1, NULL
+    FROM runs WHERE CAST(substr(id, 2) AS INTEGER) % 10 = 0;
+  `);
   db.pragma('foreign_keys = ON');
   db.exec('ANALYZE');
+  expect(db.prepare('SELECT count(*) FROM runs').pluck().get()).toBe(N);
+  expect(db.prepare('SELECT received_at FROM runs WHERE id = ?').pluck().get('r0000001')).toBe('2025-01-01T00:05:00.000Z');
 }, 60_000);
 
 const queries: [string, Record<string, unknown>, boolean][] = [
