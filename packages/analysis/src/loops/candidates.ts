@@ -42,7 +42,8 @@ export function robotLoops(loops: LoopColumns, odo: OdometryColumns, th: PolicyT
 
 /**
  * Dock return: a run that starts and ends at the dock gives one loop from the last pose of the initial rest to the
- * first pose of the final rest, with identity relative pose and the policy's dock uncertainty.
+ * first pose of the final rest: the same place (zero relative translation, the policy's dock uncertainty). The
+ * heading at the dock is not assumed to repeat, so the loop is translation-only.
  */
 export function dockLoop(odo: OdometryColumns, dist: Float64Array, th: PolicyThresholds): LoopCandidate | null {
   const n = odo.n;
@@ -54,7 +55,7 @@ export function dockLoop(odo: OdometryColumns, dist: Float64Array, th: PolicyThr
   let iB = n - 1;
   while (iB - 1 > iA && total - dist[iB - 1]! < DOCK_REST) iB--;
   const meas = pose.identity(pose.create());
-  return { source: 'dock', tA: odo.t[iA]!, tB: odo.t[iB]!, iA, iB, meas, sigmaT: th.dock_sigma_m, sigmaR: th.dock_sigma_deg * DEG };
+  return { source: 'dock', tA: odo.t[iA]!, tB: odo.t[iB]!, iA, iB, meas, sigmaT: th.dock_sigma_m, sigmaR: null };
 }
 
 /**
