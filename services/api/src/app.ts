@@ -1,17 +1,13 @@
 import { randomUUID } from 'node:crypto';
-import type { Readable } from 'node:stream';
 import Fastify, { type FastifyBaseLogger, type FastifyInstance } from 'fastify';
 import multipart from '@fastify/multipart';
-import type { Logger } from 'pino';
 import * as contracts from '@plumbline/contracts';
 import type { Config } from '@plumbline/config';
-import type { BlobStore, Store } from '@plumbline/store';
-import type { JobQueue } from '@plumbline/queue';
+import type { ApiContext, AppDeps } from './context.ts';
 import { createAuthenticator } from './plugins/auth.ts';
 import { OpenApiRegistry, sharedSchemas } from './plugins/openapi.ts';
 import { registerProblemHandler } from './plugins/problem.ts';
 import { TokenBucketLimiter } from './plugins/rate-limit.ts';
-import type { RouteContext } from './plugins/route.ts';
 import { registerSecurity, requestIdFrom } from './plugins/security.ts';
 import { registerStatic } from './plugins/static.ts';
 import { createServiceMetrics, type ServiceMetrics } from './metrics.ts';
@@ -24,37 +20,7 @@ import { registerTokenRoutes } from './routes/tokens.ts';
 import { registerWebhookRoutes } from './routes/webhooks.ts';
 import { registerDocRoutes } from './routes/docs.ts';
 
-export interface Clock {
-  now(): Date;
-}
-
-/** What upload validation needs from a bundle: its parsed manifest. Throws BundleError for a bad archive. */
-export type InspectBundle = (archivePath: string) => Promise<{ manifest: contracts.RunManifest }>;
-
-/** A trajectory as CSV for the download route; `repaired` applies the analysis corrections. */
-export type TrajectoryCsv = (archivePath: string, variant: 'original' | 'repaired') => Promise<string | Readable>;
-
-export interface AppDeps {
-  store: Store;
-  blobs: BlobStore;
-  queue: JobQueue;
-  logger: Logger;
-  clock: Clock;
-  inspectBundle: InspectBundle;
-  /** Absent: the trajectory.csv route answers 503 until wired. */
-  trajectoryCsv?: TrajectoryCsv;
-  metrics?: ServiceMetrics;
-  /** Dashboard build directory; null/absent = no static files. */
-  dashboardDir?: string | null;
-}
-
-/** Everything a route file needs: the app, deps, config, the route helper context. */
-export interface ApiContext extends RouteContext {
-  config: Config;
-  deps: AppDeps;
-  metrics: ServiceMetrics;
-  uploadLimiter: TokenBucketLimiter;
-}
+export type { ApiContext, AppDeps, Clock, InspectBundle, TrajectoryCsv } from './context.ts';
 
 const BUNDLE_TYPES = ['application/gzip', 'application/x-gzip', 'application/x-tar', 'application/zip', 'application/octet-stream'];
 

@@ -1,7 +1,7 @@
 import type { RunSummary } from '@plumbline/contracts';
 import type { BlobInfo, Store } from '@plumbline/store';
 import type { JobQueue } from '@plumbline/queue';
-import type { AppDeps } from './app.ts';
+import type { AppDeps } from './context.ts';
 import { actorOf, type Principal } from './plugins/auth.ts';
 import { errors } from './errors.ts';
 

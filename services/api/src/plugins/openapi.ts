@@ -1,10 +1,10 @@
 import { z } from 'zod';
-import type { RawContent, RouteSpec } from './route.ts';
+import type { AnyRouteSpec, RawContent, RouteRegistry } from './route-types.ts';
 import { errors, problemType } from '../errors.ts';
 import { Problem } from '@plumbline/contracts';
 
 type JsonSchema = Record<string, unknown>;
-type AnySpec = RouteSpec<z.ZodType, z.ZodType, z.ZodType>;
+type AnySpec = AnyRouteSpec;
 
 export interface OpenApiDocument {
   openapi: '3.1.0';
@@ -32,7 +32,7 @@ export function toOpenApiPath(url: string): string {
  * `#/components/schemas/*` references; parameters and request bodies are inlined in their input form
  * (defaults make fields optional, as a client sees them).
  */
-export class OpenApiRegistry {
+export class OpenApiRegistry implements RouteRegistry {
   private readonly specs: AnySpec[] = [];
   private readonly named = z.registry<{ id: string }>();
   private cached: OpenApiDocument | null = null;

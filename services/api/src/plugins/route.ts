@@ -1,57 +1,9 @@
-import type { FastifyInstance, FastifyReply, FastifyRequest } from 'fastify';
-import { z } from 'zod';
-import type { Role } from '@plumbline/contracts';
+import type { z } from 'zod';
 import { errors } from '../errors.ts';
-import type { OpenApiRegistry } from './openapi.ts';
 import type { Principal } from './auth.ts';
+import type { RawContent, RouteContext, RouteHandler, RouteInput, RouteSpec } from './route-types.ts';
 
-type Method = 'GET' | 'POST' | 'PUT' | 'DELETE';
-
-/** A non-JSON body or response, documented by content type only (bundles, CSV, HTML). */
-export interface RawContent {
-  contentTypes: readonly string[];
-  description: string;
-}
-
-export interface RouteSpec<P extends z.ZodType, Q extends z.ZodType, B extends z.ZodType> {
-  method: Method;
-  url: string;
-  operationId: string;
-  summary: string;
-  tag: string;
-  /** Roles allowed to call the route; `public` = no token needed. The one place a route states its access. */
-  auth: readonly Role[] | 'public';
-  params?: P;
-  query?: Q;
-  /** JSON request body, validated. */
-  body?: B;
-  /** Streamed request body (the route reads it itself). */
-  rawBody?: RawContent;
-  /** Response schemas by status; JSON responses are validated against them before they are sent. */
-  responses: Record<number, z.ZodType | RawContent>;
-  /** Extra hooks run after authentication (e.g. rate limits). */
-  preHandler?: (req: FastifyRequest) => void | Promise<void>;
-}
-
-export interface RouteInput<P extends z.ZodType, Q extends z.ZodType, B extends z.ZodType> {
-  params: z.output<P>;
-  query: z.output<Q>;
-  body: z.output<B>;
-  /** Null only on public routes. */
-  principal: Principal;
-}
-
-export type RouteHandler<P extends z.ZodType, Q extends z.ZodType, B extends z.ZodType> = (
-  req: FastifyRequest,
-  input: RouteInput<P, Q, B>,
-  reply: FastifyReply,
-) => Promise<unknown>;
-
-export interface RouteContext {
-  app: FastifyInstance;
-  openapi: OpenApiRegistry;
-  authenticate: (req: FastifyRequest, roles: readonly Role[]) => Principal;
-}
+export type { RawContent, RouteContext, RouteHandler, RouteInput, RouteSpec } from './route-types.ts';
 
 function isRaw(x: z.ZodType | RawContent): x is RawContent {
   return (x as RawContent).contentTypes !== undefined;

@@ -1,7 +1,7 @@
 import type { FastifyRequest } from 'fastify';
 import { z } from 'zod';
 import type { RunSummary } from '@plumbline/contracts';
-import type { ApiContext } from '../app.ts';
+import type { ApiContext } from '../context.ts';
 import { errors } from '../errors.ts';
 import { assertMayReadRobot, type Principal } from '../plugins/auth.ts';
 

@@ -1,4 +1,4 @@
-import type { ApiContext } from '../app.ts';
+import type { ApiContext } from '../context.ts';
 import { defineRoute } from '../plugins/route.ts';
 import { renderReference } from '../plugins/reference-page.ts';
 

@@ -1,5 +1,5 @@
 import { z } from 'zod';
-import type { ApiContext } from '../app.ts';
+import type { ApiContext } from '../context.ts';
 import { errors } from '../errors.ts';
 import { CallbackGauge } from '../metrics.ts';
 import { defineRoute } from '../plugins/route.ts';

@@ -1,6 +1,6 @@
 import { z } from 'zod';
 import { RobotSummary, RunListPage, RunListQuery } from '@plumbline/contracts';
-import type { ApiContext } from '../app.ts';
+import type { ApiContext } from '../context.ts';
 import { errors } from '../errors.ts';
 import { assertMayReadRobot } from '../plugins/auth.ts';
 import { defineRoute } from '../plugins/route.ts';

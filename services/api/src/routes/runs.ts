@@ -3,7 +3,7 @@ import type { Readable } from 'node:stream';
 import type { FastifyRequest } from 'fastify';
 import { z } from 'zod';
 import { AuditEntry, Report, RunDetail, RunListPage, RunListQuery, RunSummary } from '@plumbline/contracts';
-import type { ApiContext } from '../app.ts';
+import type { ApiContext } from '../context.ts';
 import { errors } from '../errors.ts';
 import { ingestBlob, requestAnalysis } from '../ingest.ts';
 import { actorOf } from '../plugins/auth.ts';

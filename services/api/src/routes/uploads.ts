@@ -2,7 +2,7 @@ import type { Readable } from 'node:stream';
 import { z } from 'zod';
 import { RunSummary, UploadSession, UploadSessionCreate } from '@plumbline/contracts';
 import type { UploadSessionRecord } from '@plumbline/store';
-import type { ApiContext } from '../app.ts';
+import type { ApiContext } from '../context.ts';
 import { AppError, errors } from '../errors.ts';
 import { ingestBlob } from '../ingest.ts';
 import type { Principal } from '../plugins/auth.ts';

@@ -1,0 +1,43 @@
+import type { Readable } from 'node:stream';
+import type { Logger } from 'pino';
+import type * as contracts from '@plumbline/contracts';
+import type { Config } from '@plumbline/config';
+import type { BlobStore, Store } from '@plumbline/store';
+import type { JobQueue } from '@plumbline/queue';
+import type { ServiceMetrics } from './metrics.ts';
+import type { TokenBucketLimiter } from './plugins/rate-limit.ts';
+import type { OpenApiRegistry } from './plugins/openapi.ts';
+import type { RouteContext } from './plugins/route-types.ts';
+
+export interface Clock {
+  now(): Date;
+}
+
+/** What upload validation needs from a bundle: its parsed manifest. Throws BundleError for a bad archive. */
+export type InspectBundle = (archivePath: string) => Promise<{ manifest: contracts.RunManifest }>;
+
+/** A trajectory as CSV for the download route; `repaired` applies the analysis corrections. */
+export type TrajectoryCsv = (archivePath: string, variant: 'original' | 'repaired') => Promise<string | Readable>;
+
+export interface AppDeps {
+  store: Store;
+  blobs: BlobStore;
+  queue: JobQueue;
+  logger: Logger;
+  clock: Clock;
+  inspectBundle: InspectBundle;
+  /** Absent: the trajectory.csv route answers 503 until wired. */
+  trajectoryCsv?: TrajectoryCsv;
+  metrics?: ServiceMetrics;
+  /** Dashboard build directory; null/absent = no static files. */
+  dashboardDir?: string | null;
+}
+
+/** Everything a route file needs: the app, deps, config, the route helper context. */
+export interface ApiContext extends RouteContext {
+  openapi: OpenApiRegistry;
+  config: Config;
+  deps: AppDeps;
+  metrics: ServiceMetrics;
+  uploadLimiter: TokenBucketLimiter;
+}
