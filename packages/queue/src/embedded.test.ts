@@ -140,3 +140,20 @@ describe('embedded queue: housekeeping', () => {
     db.close();
   });
 });
+
+describe('embedded queue: database gone', () => {
+  it('does not crash the process when the database closes under a running job', async () => {
+    const db = openDatabase(':memory:');
+    const queue = createEmbeddedQueue(db, { pollIntervalMs: 20, leaseMs: 60 });
+    await queue.enqueue(job(1));
+    let started = false;
+    const worker = queue.work(async () => {
+      started = true;
+      await new Promise((r) => setTimeout(r, 100)); // heartbeats fire against a closed database meanwhile
+    }, { concurrency: 1 });
+    await waitFor(() => started, 5000, 'start');
+    db.close();
+    await worker.close(); // resolves: completion bookkeeping failed quietly instead of rejecting
+    expect(db.open).toBe(false);
+  });
+});

@@ -48,21 +48,39 @@ function parsePayload(text: string): AnalysisJob {
   return parsed.data;
 }
 
-/** Runs one claimed job: heartbeat while the handler runs, then complete, retry later, or dead-letter. */
+/**
+ * Runs one claimed job: heartbeat while the handler runs, then complete, retry later, or dead-letter. Never
+ * rejects: if the bookkeeping itself fails (database busy or closed), the lease lapses and the job is claimed again.
+ */
 async function runJob(table: JobTable, s: Settings, claimed: ClaimedJob, handler: JobHandler): Promise<void> {
   const beat = setInterval(() => {
     const now = Date.now();
-    table.renew(claimed.id, claimed.lease_token, now + s.leaseMs, now);
+    try {
+      table.renew(claimed.id, claimed.lease_token, now + s.leaseMs, now);
+    } catch {
+      // a missed renewal only shortens the lease; the next beat tries again
+    }
   }, Math.max(10, Math.floor(s.leaseMs / 3)));
+  let failure: unknown = null;
+  let failed = false;
   try {
     await handler({ id: claimed.id, payload: parsePayload(claimed.payload), attempt: claimed.attempts });
-    table.complete(claimed.id, claimed.lease_token, Date.now());
   } catch (err) {
-    const now = Date.now();
-    const last = err instanceof UnrecoverableJobError || claimed.attempts >= claimed.max_attempts;
-    table.fail(claimed.id, claimed.lease_token, errorText(err), last ? null : now + retryDelayMs(claimed.attempts, s.backoffMs), now);
+    failed = true;
+    failure = err;
   } finally {
     clearInterval(beat);
+  }
+  try {
+    const now = Date.now();
+    if (!failed) {
+      table.complete(claimed.id, claimed.lease_token, now);
+      return;
+    }
+    const last = failure instanceof UnrecoverableJobError || claimed.attempts >= claimed.max_attempts;
+    table.fail(claimed.id, claimed.lease_token, errorText(failure), last ? null : now + retryDelayMs(claimed.attempts, s.backoffMs), now);
+  } catch {
+    // see above: the lease will lapse and the job run again
   }
 }
 
