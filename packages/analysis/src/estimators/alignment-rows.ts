@@ -21,6 +21,8 @@ import type { Keyframes } from './keyframes.ts';
 
 export interface AlignmentRows {
   n: number;
+  /** Rows per independent triplet (stride / row step): consecutive rows share keyframes when > 1. */
+  overlap: number;
   /** Middle keyframe time (IMU clock) and odometry distance at it. */
   t: Float64Array;
   distance: Float64Array;
@@ -28,6 +30,9 @@ export interface AlignmentRows {
   beta: Float64Array;
   y: Float64Array;
   m: Float64Array;
+  /** Mean odometry velocity over the second interval (b, c), odometry units/s, stride 3; and that interval's length. */
+  vOdom: Float64Array;
+  dtBc: Float64Array;
 }
 
 interface Span {
@@ -88,16 +93,19 @@ function composeSpan(b: PreintegrationBatch, k0: number, stride: number, dbg: Ar
 }
 
 /**
- * Builds the alignment rows over consecutive spans of `stride` batch intervals. `imuQOdom` = R_IB (w-first),
+ * Builds the alignment rows over spans of `stride` batch intervals, one triplet starting at every `rowStep`-th
+ * keyframe (rowStep < stride uses every keyframe; rows then overlap and share noise, see `overlap`). `imuQOdom` = R_IB (w-first),
  * `leverM` = odometry origin in the IMU frame (m), dbg = gyro bias correction relative to the batch's linearisation.
  */
 export function buildAlignmentRows(
   b: PreintegrationBatch, kf: Keyframes, imuQOdom: Float64Array, leverM: ArrayLike<number>, dbg: ArrayLike<number>, stride: number,
+  rowStep = 1,
 ): AlignmentRows {
-  const cap = Math.max(0, Math.floor(b.n / stride));
+  const cap = b.n;
   const rows: AlignmentRows = {
-    n: 0, t: new Float64Array(cap), distance: new Float64Array(cap), lam: new Float64Array(3 * cap),
+    n: 0, overlap: stride / rowStep, t: new Float64Array(cap), distance: new Float64Array(cap), lam: new Float64Array(3 * cap),
     beta: new Float64Array(cap), y: new Float64Array(3 * cap), m: new Float64Array(9 * cap),
+    vOdom: new Float64Array(3 * cap), dtBc: new Float64Array(cap),
   };
   const X = quat.toMat3(new Float64Array(9), imuQOdom);
   const Ra = new Float64Array(9), Rb = new Float64Array(9), Rc = new Float64Array(9), qb = quat.create();
@@ -108,7 +116,7 @@ export function buildAlignmentRows(
     for (let i = 0; i < 3; i++)
       for (let j = 0; j < 3; j++) out[3 * i + j] = m9[3 * i]! * X[3 * j]! + m9[3 * i + 1]! * X[3 * j + 1]! + m9[3 * i + 2]! * X[3 * j + 2]!;
   };
-  for (let k0 = 0; k0 + 2 * stride <= b.n; k0 += stride) {
+  for (let k0 = 0; k0 + 2 * stride <= b.n; k0 += rowStep) {
     composeSpan(b, k0, stride, dbg, A);
     if (!A.ok) continue;
     composeSpan(b, k0 + stride, stride, dbg, B);
@@ -121,9 +129,11 @@ export function buildAlignmentRows(
     rows.t[r] = kf.tImu[ib]!;
     rows.distance[r] = kf.distance[ib]!;
     rows.beta[r] = -0.5 * (A.T + B.T);
+    rows.dtBc[r] = B.T;
     for (let i = 0; i < 3; i++) {
       const qa = kf.p[3 * ia + i]!, qbb = kf.p[3 * ib + i]!, qc = kf.p[3 * ic + i]!;
       rows.lam[3 * r + i] = (qc - qbb) / B.T - (qbb - qa) / A.T;
+      rows.vOdom[3 * r + i] = (qc - qbb) / B.T;
       let y = 0;
       for (let j = 0; j < 3; j++) {
         y += Ra[3 * i + j]! * (A.v[j]! - A.p[j]! / A.T) + (Rb[3 * i + j]! * B.p[j]!) / B.T;

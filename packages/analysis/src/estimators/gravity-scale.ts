@@ -4,14 +4,15 @@
  *
  * What: per window (default 10 s, 50 % overlap) the scale s (metres per odometry unit) with its 1-sigma, gravity
  * tilt against the odometry world −z (deg), residual RMS (m/s) and condition number; run-level scale (median of the
- * observable windows), gravity and accelerometer bias (joint estimate over the whole run with the window scales
- * held fixed, which separates a horizontal bias from a tilt when the heading changes).
+ * observable windows), gravity and accelerometer bias (joint estimate over the whole run with one free scale per
+ * window, which separates a horizontal bias from a tilt when the heading changes; alignment-joint.ts).
  * Method: velocity-free linear system over keyframe triplets (alignment-rows.ts; Mur-Artal & Tardós, IEEE RA-L 2017),
  * linear start for (s, g), then Gauss–Newton with |g| fixed to local normal gravity and a 2-DOF tangent update
  * (Qin & Shen, IEEE T-RO 2018). Windows without acceleration excitation (odometry acceleration std below
  * `minAccelStd`) or with σ_s above `maxScaleSigma` are reported unobservable with the reason, never as a value.
  */
 import type { AlignmentRows } from './alignment-rows.ts';
+import { solveJoint } from './alignment-joint.ts';
 import { linearStart, solveAlignment, type SolveResult } from './alignment-solve.ts';
 import { madSigma, medianOf } from './small-math.ts';
 import { emptySeries, noScalar, scalar, type ScalarResult, type Unsupported, type Vec3Result, type WindowSeries } from './types.ts';
@@ -22,7 +23,7 @@ export interface GravityScaleOptions {
   gravityMS2?: number;
   /** Odometry acceleration standard deviation below which scale is unobservable, m/s² (default 0.1). */
   minAccelStd?: number;
-  /** Relative scale sigma above which a window is unobservable (default 0.03). */
+  /** Relative scale sigma above which a window is unobservable (default 0.01). */
   maxScaleSigma?: number;
   /** Estimate the accelerometer bias over the run (default true). */
   estimateBias?: boolean;
@@ -92,9 +93,10 @@ export function estimateGravityScale(rows: AlignmentRows, worldGravityAligned: b
   if (rows.n < 8) return { ok: false, reason: 'insufficient: fewer than 8 keyframe triplets' };
   const win = windowRanges(rows, options.windowS ?? 10, options.windowOverlap ?? 0.5);
   const nw = win.t.length;
-  const minStd = options.minAccelStd ?? 0.1, maxSig = options.maxScaleSigma ?? 0.03;
+  const minStd = options.minAccelStd ?? 0.1, maxSig = options.maxScaleSigma ?? 0.01;
   const zero = new Float64Array(3);
   const down = Float64Array.of(0, 0, -1);
+  const inflate = Math.sqrt(rows.overlap);
   const perWindow = (ba: Float64Array): (SolveResult | null)[] => {
     const out: (SolveResult | null)[] = [];
     for (let w = 0; w < nw; w++) {
@@ -106,7 +108,13 @@ export function estimateGravityScale(rows: AlignmentRows, worldGravityAligned: b
       const lin = linearStart(rows, r0, r1, ba);
       const g0 = lin && Math.hypot(...lin.g) > 1 ? Float64Array.from(lin.g, (v) => v / Math.hypot(...lin.g)) : down;
       const s0 = lin && lin.s > 0 ? lin.s : 1;
-      out.push(solveAlignment(rows, r0, r1, { scale: 'free', bias: ba, gravityMS2: G, g0, s0 }));
+      const r = solveAlignment(rows, r0, r1, { scale: 'free', bias: ba, gravityMS2: G, g0, s0 });
+      // Overlapping triplets share keyframes: inflate the LS sigmas by √(rows per independent triplet).
+      if (r !== null) {
+        r.sSigma *= inflate;
+        for (let k = 0; k < 4; k++) r.gCov[k] = r.gCov[k]! * inflate * inflate;
+      }
+      out.push(r);
     }
     return out;
   };
@@ -119,8 +127,9 @@ export function estimateGravityScale(rows: AlignmentRows, worldGravityAligned: b
   };
   // Pass 1: scales with zero bias, to hold scale fixed while the run-level bias is estimated.
   const first = perWindow(zero);
-  const rowScale = scalePerRow(rows, win, first.map((r, w) => (observable(w, r) === '' ? r!.s : Number.NaN)));
-  const joint = runLevel(rows, rowScale, G, options.estimateBias ?? true);
+  const s0 = Float64Array.from(first, (r) => (r !== null ? r.s : Number.NaN));
+  const anyObservable = first.some((r, w) => observable(w, r) === '');
+  const joint = runLevel(rows, win, s0, G, options.estimateBias ?? true, anyObservable);
   const ba = joint?.bias ?? zero;
   const second = perWindow(ba);
   const scale = emptySeries('', nw), tilt = emptySeries('deg', nw), residual = emptySeries('m/s', nw);
@@ -183,38 +192,24 @@ interface Joint {
   biasResult: Vec3Result;
 }
 
-/** Run-level gravity and bias over the rows whose window scale is known. */
-function runLevel(rows: AlignmentRows, rowScale: Float64Array, G: number, withBias: boolean): Joint | null {
-  // Keep only rows with a known scale (compacted copy; rows are few compared with IMU samples).
-  const keep: number[] = [];
-  for (let r = 0; r < rows.n; r++) if (Number.isFinite(rowScale[r]!)) keep.push(r);
-  if (keep.length < 8) return null;
-  const sub = subsetRows(rows, keep);
-  const sc = Float64Array.from(keep, (r) => rowScale[r]!);
-  const spec = { scale: sc, gravityMS2: G, g0: Float64Array.of(0, 0, -1), s0: 1 };
-  const withB = withBias ? solveAlignment(sub, 0, sub.n, { ...spec, bias: 'free' }) : null;
+/** Run-level gravity and bias, jointly with one free scale per window (alignment-joint.ts). */
+function runLevel(rows: AlignmentRows, win: { t: Float64Array }, s0: Float64Array, G: number, withBias: boolean, anyObservable: boolean): Joint | null {
+  if (!anyObservable) return null;
+  const rowWindow = new Int32Array(rows.n);
+  let w = 0;
+  for (let r = 0; r < rows.n; r++) {
+    while (w + 1 < win.t.length && Math.abs(win.t[w + 1]! - rows.t[r]!) <= Math.abs(win.t[w]! - rows.t[r]!)) w++;
+    rowWindow[r] = w;
+  }
+  const withB = withBias ? solveJoint(rows, rowWindow, s0, G, true) : null;
   const biasOk = withB !== null && Math.max(...withB.baSigma) < 0.05;
-  const r = biasOk ? withB : solveAlignment(sub, 0, sub.n, { ...spec, bias: new Float64Array(3) });
+  const r = biasOk ? withB : solveJoint(rows, rowWindow, s0, G, false);
   if (r === null) return null;
   const tiltSigmaDeg = (Math.sqrt(0.5 * (r.gCov[0]! + r.gCov[3]!)) / G) * DEG;
   const biasResult: Vec3Result = biasOk
     ? { value: [r.ba[0]!, r.ba[1]!, r.ba[2]!], sigma: [r.baSigma[0]!, r.baSigma[1]!, r.baSigma[2]!], unit: 'm/s²' }
     : { value: null, sigma: null, unit: 'm/s²', reason: withBias ? 'unobservable: too little heading change to separate bias from tilt' : 'not estimated' };
   return { g: r.g, tiltSigmaDeg, bias: biasOk ? r.ba : null, biasResult };
-}
-
-function subsetRows(rows: AlignmentRows, keep: number[]): AlignmentRows {
-  const n = keep.length;
-  const out: AlignmentRows = { n, t: new Float64Array(n), distance: new Float64Array(n), lam: new Float64Array(3 * n), beta: new Float64Array(n), y: new Float64Array(3 * n), m: new Float64Array(9 * n) };
-  keep.forEach((r, i) => {
-    out.t[i] = rows.t[r]!;
-    out.distance[i] = rows.distance[r]!;
-    out.beta[i] = rows.beta[r]!;
-    out.lam.set(rows.lam.subarray(3 * r, 3 * r + 3), 3 * i);
-    out.y.set(rows.y.subarray(3 * r, 3 * r + 3), 3 * i);
-    out.m.set(rows.m.subarray(9 * r, 9 * r + 9), 9 * i);
-  });
-  return out;
 }
 
 /** Median of the observable window scales; σ from the MAD over √(n/2) (windows overlap by half). */

@@ -34,7 +34,7 @@ export interface InertialOptions {
   windowOverlap?: number;
   /** Time-offset windows, s (default 60). */
   timeOffsetWindowS?: number;
-  /** Keyframe spacing, s (default 0.25); alignment triplets use `alignmentStride` keyframe intervals (default 2). */
+  /** Keyframe spacing, s (default 0.25); alignment triplets span 2 × `alignmentStride` keyframe intervals (default 4, i.e. 1-s intervals). */
   keyframeS?: number;
   alignmentStride?: number;
   /** Composed interval length of the rotation estimator, s (default 0.5). */
@@ -174,7 +174,7 @@ function runModelEstimators(
     sigma: [rot.gyroBiasSigmaRadS[0]!, rot.gyroBiasSigmaRadS[1]!, rot.gyroBiasSigmaRadS[2]!], unit: 'rad/s',
   };
   const dbg = Float64Array.from(rot.gyroBiasRadS, (v, i) => v - bg0[i]!);
-  const rows = buildAlignmentRows(batch, kf, rot.imuQOdom, manifest.extrinsics.imu_T_odom.translation, dbg, options.alignmentStride ?? 2);
+  const rows = buildAlignmentRows(batch, kf, rot.imuQOdom, manifest.extrinsics.imu_T_odom.translation, dbg, options.alignmentStride ?? 4);
   const gs = estimateGravityScale(rows, manifest.odometry.world_gravity_aligned, { windowS, windowOverlap: overlap, gravityMS2: G });
   lap('gravityScale');
   const extrinsic = {

@@ -1,18 +1,19 @@
 /**
  * Scale drift and scale steps of the odometry.
  *
- * What: the robust trend of the window scale against distance travelled (% of scale per 100 m, with a 95 % CI), and
+ * What: the trend of the scale against distance travelled (% of scale per 100 m, with a 95 % CI), and
  * steps (e.g. a tracking re-initialisation) located in time with a 1-sigma time uncertainty.
- * Method: trend by the Theil–Sen estimator (median of pairwise slopes) with the distribution-free CI of P. K. Sen,
- * "Estimates of the regression coefficient based on Kendall's tau", JASA 63, 1968 (normal approximation of the
- * variance of Kendall's S), on non-overlapping windows. Steps: the difference of the medians of K windows before and
+ * Method: trend by iteratively reweighted least squares (Huber) of a linear-in-distance scale over every alignment
+ * row, with the steps as separate levels; cross-checked by the Theil–Sen estimator (median of pairwise slopes) with
+ * the distribution-free CI of P. K. Sen, "Estimates of the regression coefficient based on Kendall's tau", JASA 63,
+ * 1968, on non-overlapping windows (used alone when the row fit is singular). Steps: the difference of the medians of K windows before and
  * after each window boundary, against the noise of successive differences (MAD); a step is kept when it exceeds 5σ
  * and 1.5 % (common practice), then located at finer resolution than a window by a two-level least-squares fit to
  * the per-triplet scale estimates s_r = λ·(y − βg + M·ba)/|λ|² (weights |λ|²) around the boundary (a change-point
  * search in the manner of E. S. Page, "Continuous inspection schemes", Biometrika 41, 1954).
  */
 import type { AlignmentRows } from './alignment-rows.ts';
-import { madSigma, medianOf } from './small-math.ts';
+import { madSigma, medianOf, solveSpd } from './small-math.ts';
 import { noScalar, scalar, type ScalarResult, type WindowSeries } from './types.ts';
 
 export interface ScaleStep {
@@ -28,6 +29,8 @@ export interface ScaleStep {
 export interface ScaleDriftResult {
   driftPctPer100m: ScalarResult;
   ci95: [number, number] | null;
+  /** Cross-check: Sen's 95 % CI of the Theil–Sen slope of the window scales (%/100 m), or null. */
+  theilSenCi95: [number, number] | null;
   steps: ScaleStep[];
 }
 
@@ -73,29 +76,85 @@ export function estimateScaleDrift(
     }
   }
   const steps = findSteps(scale, rows, gravity, bias, options);
-  // Fit the trend on segments between steps by removing each step's level change.
-  const adj = ys.map((v, i) => {
-    let f = 1;
-    for (const s of steps) if (timeAtDistance(scale, distanceM, xs[i]!) >= s.t) f *= s.before / s.after;
-    return v * f;
-  });
-  const thin = thinPoints(xs, adj, 400);
+  const level = medianOf(ys);
+  const thin = thinPoints(xs, ys, 400);
   const ts = theilSen(thin.x, thin.y);
-  const level = medianOf(adj);
+  const ciTs: [number, number] | null = ts && level > 0 ? [(ts.lo * 1e4) / level, (ts.hi * 1e4) / level] : null;
+  const irls = driftFromRows(rows, gravity, bias, steps, metresPerOdomUnit(scale, distanceM, rows));
+  if (irls !== null) {
+    return { driftPctPer100m: scalar(irls.pct, irls.sigma, '%/100m'), ci95: [irls.pct - 1.96 * irls.sigma, irls.pct + 1.96 * irls.sigma], theilSenCi95: ciTs, steps };
+  }
   if (ts === null || !(level > 0)) {
-    return { driftPctPer100m: noScalar('%/100m', 'unobservable: fewer than 4 observable non-overlapping windows'), ci95: null, steps };
+    return { driftPctPer100m: noScalar('%/100m', 'unobservable: too little acceleration excitation to follow the scale'), ci95: null, theilSenCi95: null, steps };
   }
   const k = (100 * 100) / level;
-  return {
-    driftPctPer100m: scalar(ts.slope * k, ((ts.hi - ts.lo) * k) / (2 * 1.96), '%/100m'),
-    ci95: [ts.lo * k, ts.hi * k],
-    steps,
-  };
+  return { driftPctPer100m: scalar(ts.slope * k, ((ts.hi - ts.lo) * k) / (2 * 1.96), '%/100m'), ci95: ciTs, theilSenCi95: ciTs, steps };
 }
 
-function timeAtDistance(scale: WindowSeries, d: Float64Array, x: number): number {
-  for (let w = 0; w < d.length; w++) if (d[w]! >= x) return scale.t[w]!;
-  return scale.t[scale.t.length - 1]!;
+/** Metres per odometry unit implied by the window distances (distanceM was scaled by the run scale). */
+function metresPerOdomUnit(scale: WindowSeries, distanceM: Float64Array, rows: AlignmentRows): number {
+  const last = distanceM.length - 1;
+  const dOdom = rows.distance[rows.n - 1]!;
+  return last >= 0 && dOdom > 0 && distanceM[last]! > 0 ? distanceM[last]! / distanceAtTime(rows, scale.t[last]!) : 1;
+}
+
+function distanceAtTime(rows: AlignmentRows, t: number): number {
+  let r = 0;
+  while (r + 1 < rows.n && rows.t[r + 1]! <= t) r++;
+  return Math.max(rows.distance[r]!, 1e-9);
+}
+
+/**
+ * Drift by iteratively reweighted least squares over all alignment rows: s(d) = a + b·d + Σ c_j·[t ≥ t_j]
+ * (steps found before are separate levels), residual s(d_r)·λ_r − (y_r + M_r·ba − β_r·g), Huber weights
+ * (k = 1.345σ). Drift = b/a per 100 m; σ from (JᵀWJ)⁻¹ times the residual variance.
+ */
+function driftFromRows(rows: AlignmentRows, g: Float64Array, ba: Float64Array, steps: ScaleStep[], mPerUnit: number): { pct: number; sigma: number } | null {
+  const np = 2 + steps.length;
+  const J = new Float64Array(np), z = new Float64Array(3);
+  let x: Float64Array = new Float64Array(np);
+  let huber = Number.POSITIVE_INFINITY, H = new Float64Array(np * np), s2 = 0;
+  for (let it = 0; it < 4; it++) {
+    H = new Float64Array(np * np);
+    const rhs = new Float64Array(np);
+    let sse = 0, count = 0;
+    for (let r = 0; r < rows.n; r++) {
+      const d = (rows.distance[r]! * mPerUnit) / 100; // hundreds of metres
+      for (let i = 0; i < 3; i++) {
+        let zz = rows.y[3 * r + i]! - rows.beta[r]! * g[i]!;
+        for (let j = 0; j < 3; j++) zz += rows.m[9 * r + 3 * i + j]! * ba[j]!;
+        z[i] = zz;
+      }
+      let e2 = 0;
+      const l = [rows.lam[3 * r]!, rows.lam[3 * r + 1]!, rows.lam[3 * r + 2]!];
+      let sr = x[0]! + x[1]! * d;
+      steps.forEach((st, j) => { if (rows.t[r]! >= st.t) sr += x[2 + j]!; });
+      for (let i = 0; i < 3; i++) e2 += (sr * l[i]! - z[i]!) ** 2;
+      const e = Math.sqrt(e2);
+      const w = it === 0 || e <= huber ? 1 : huber / e;
+      sse += e2;
+      count += 3;
+      for (let i = 0; i < 3; i++) {
+        J[0] = l[i]!;
+        J[1] = l[i]! * d;
+        steps.forEach((st, j) => { J[2 + j] = rows.t[r]! >= st.t ? l[i]! : 0; });
+        for (let a = 0; a < np; a++) {
+          rhs[a] = rhs[a]! + w * J[a]! * z[i]!;
+          for (let c = 0; c < np; c++) H[a * np + c] = H[a * np + c]! + w * J[a]! * J[c]!;
+        }
+      }
+    }
+    const sol = solveSpd(H, rhs, np);
+    if (sol === null) return null;
+    x = sol.x;
+    s2 = sse / Math.max(1, count - np);
+    huber = 1.345 * Math.sqrt(3 * s2);
+  }
+  const inv = solveSpd(H, new Float64Array(np), np);
+  if (inv === null || !(x[0]! > 0)) return null;
+  const sb = Math.sqrt(inv.inv[np + 1]! * s2);
+  // Relative drift: b/a per 100 m, in percent; σ dominated by σ_b.
+  return { pct: (x[1]! / x[0]!) * 100, sigma: (sb / x[0]!) * 100 };
 }
 
 /** Keeps at most `max` points by taking medians of equal-count bins (keeps Theil–Sen O(max²)). */
@@ -140,48 +199,79 @@ function findSteps(scale: WindowSeries, rows: AlignmentRows, g: Float64Array, ba
   return steps.sort((a, b) => a.t - b.t);
 }
 
-/** Two-level weighted least squares on per-row scale estimates in [t0, t1]; the split with the least SSE. */
+/**
+ * Locates a step in [t0, t1] by the velocity mismatch between the IMU and the odometry. With the scale held at the
+ * level before the step (s0), the running sum C_k = Σ_{r≤k} e_r of the alignment residuals equals s0·v̄_odom − v̄_imu
+ * up to a constant and a slow drift; a step to s1 at row m adds (s0/s1 − 1)·s0·v̄_odom,k for k ≥ m. For each m the
+ * model C_k = c0 + c1·(t_k − t0) + κ0·s0·v̄_odom,k + κ·[k ≥ m]·s0·v̄_odom,k (κ0 absorbs an error of s0) is fitted by
+ * least squares (8 unknowns); the m with the least
+ * SSE wins, and its 1-sigma spans the splits within Δχ² = 1. This works at constant velocity, where the per-window
+ * acceleration-based scale is blind.
+ */
 function locateStep(rows: AlignmentRows, g: Float64Array, ba: Float64Array, t0: number, t1: number, before: number, after: number): ScaleStep {
-  const sr: number[] = [], wr: number[] = [], tr: number[] = [];
-  for (let r = 0; r < rows.n; r++) {
-    const t = rows.t[r]!;
-    if (t < t0 || t > t1) continue;
-    let num = 0, den = 0;
-    for (let i = 0; i < 3; i++) {
-      let y = rows.y[3 * r + i]! - rows.beta[r]! * g[i]!;
-      for (let j = 0; j < 3; j++) y += rows.m[9 * r + 3 * i + j]! * ba[j]!;
-      const l = rows.lam[3 * r + i]!;
-      num += l * y;
-      den += l * l;
-    }
-    if (den < 1e-6) continue;
-    sr.push(num / den);
-    wr.push(den);
-    tr.push(t);
-  }
+  let r0 = 0;
+  while (r0 < rows.n && rows.t[r0]! < t0) r0++;
+  let r1 = r0;
+  while (r1 < rows.n && rows.t[r1]! <= t1) r1++;
+  const n = r1 - r0;
   const fallback = { t: 0.5 * (t0 + t1), sigmaS: (t1 - t0) / Math.sqrt(12), before, after, stepPct: (after / before - 1) * 100 };
-  if (sr.length < 4) return fallback;
-  // Prefix sums of w, w·s, w·s² give each split's SSE in O(1).
-  const n = sr.length;
-  const W = new Float64Array(n + 1), S = new Float64Array(n + 1), Q = new Float64Array(n + 1);
-  for (let i = 0; i < n; i++) {
-    W[i + 1] = W[i]! + wr[i]!;
-    S[i + 1] = S[i]! + wr[i]! * sr[i]!;
-    Q[i + 1] = Q[i]! + wr[i]! * sr[i]! * sr[i]!;
+  if (n < 8) return fallback;
+  const C = new Float64Array(3 * n);
+  const acc = [0, 0, 0];
+  for (let k = 0; k < n; k++) {
+    const r = r0 + k;
+    for (let i = 0; i < 3; i++) {
+      let e = before * rows.lam[3 * r + i]! + rows.beta[r]! * g[i]! - rows.y[3 * r + i]!;
+      for (let j = 0; j < 3; j++) e -= rows.m[9 * r + 3 * i + j]! * ba[j]!;
+      acc[i] = acc[i]! + e;
+      C[3 * k + i] = acc[i]!;
+    }
   }
-  const sse = (a: number, b: number) => Q[b]! - Q[a]! - (S[b]! - S[a]!) ** 2 / (W[b]! - W[a]!);
-  let best = -1, bestSse = Number.POSITIVE_INFINITY;
-  const sses = new Float64Array(n);
-  for (let k = 1; k < n; k++) {
-    sses[k] = sse(0, k) + sse(k, n);
-    if (sses[k]! < bestSse) [bestSse, best] = [sses[k]!, k];
+  const sse = new Float64Array(n).fill(Number.POSITIVE_INFINITY);
+  const kappa = new Float64Array(n);
+  for (let m = 2; m < n - 1; m++) {
+    const fit = fitStepModel(rows, r0, n, C, m, t0, before);
+    if (fit !== null) [sse[m], kappa[m]] = fit;
   }
-  const sigma2 = bestSse / Math.max(1, W[n]! * (n - 2) / n);
-  // Time uncertainty: splits whose SSE is within one σ² (Δχ² = 1) of the best.
+  let best = -1;
+  for (let m = 0; m < n; m++) if (sse[m]! < (best < 0 ? Number.POSITIVE_INFINITY : sse[best]!)) best = m;
+  if (best < 0) return fallback;
+  const sigma2 = sse[best]! / Math.max(1, 3 * n - 8);
   let lo = best, hi = best;
-  while (lo > 1 && sses[lo - 1]! - bestSse < sigma2) lo--;
-  while (hi < n - 1 && sses[hi + 1]! - bestSse < sigma2) hi++;
-  const t = 0.5 * (tr[best - 1]! + tr[best]!);
-  const b = (S[best]! / W[best]!), a = (S[n]! - S[best]!) / (W[n]! - W[best]!);
-  return { t, sigmaS: Math.max(0.5 * (tr[hi]! - tr[lo - 1]!), 0.25), before: b, after: a, stepPct: (a / b - 1) * 100 };
+  while (lo > 2 && sse[lo - 1]! - sse[best]! < sigma2) lo--;
+  while (hi < n - 2 && sse[hi + 1]! - sse[best]! < sigma2) hi++;
+  // The step lies inside interval (b, c) of row m: report that interval's midpoint.
+  const mid = (k: number) => rows.t[r0 + k]! + 0.5 * rows.dtBc[r0 + k]!;
+  const ratio = 1 + kappa[best]!; // s0/s1
+  const s1 = before / ratio;
+  return { t: mid(best), sigmaS: Math.max(0.5 * (mid(hi) - mid(lo)), rows.dtBc[r0 + best]! / Math.sqrt(12)), before, after: s1, stepPct: (s1 / before - 1) * 100 };
+}
+
+/** Least squares of C_k = c0 + c1·(t_k − t0) + (κ0 + κ·[k ≥ m])·s0·v̄_k over the 3-vector rows; returns [SSE, κ/(1+κ0)]. */
+function fitStepModel(rows: AlignmentRows, r0: number, n: number, C: Float64Array, m: number, t0: number, s0: number): [number, number] | null {
+  const H = new Float64Array(64), b = new Float64Array(8), J = new Float64Array(8);
+  let cc = 0;
+  for (let k = 0; k < n; k++) {
+    const r = r0 + k, dt = rows.t[r]! - t0;
+    for (let i = 0; i < 3; i++) {
+      J.fill(0);
+      J[i] = 1;
+      J[3 + i] = dt;
+      J[6] = k >= m ? s0 * rows.vOdom[3 * r + i]! : 0;
+      J[7] = s0 * rows.vOdom[3 * r + i]!;
+      const y = C[3 * k + i]!;
+      cc += y * y;
+      for (let a = 0; a < 8; a++) {
+        if (J[a] === 0) continue;
+        b[a] = b[a]! + J[a]! * y;
+        for (let c = 0; c < 8; c++) H[a * 8 + c] = H[a * 8 + c]! + J[a]! * J[c]!;
+      }
+    }
+  }
+  const sol = solveSpd(H, b, 8);
+  if (sol === null) return null;
+  let fitted = 0;
+  for (let a = 0; a < 8; a++) fitted += sol.x[a]! * b[a]!;
+  // κ relative to the fitted pre-step level (1 + κ0): s0/s1 = (1 + κ0 + κ)/(1 + κ0).
+  return [cc - fitted, sol.x[6]! / (1 + sol.x[7]!)];
 }
