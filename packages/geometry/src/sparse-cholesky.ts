@@ -141,12 +141,39 @@ export function createBlockCholesky(n: number, b: number, pairs: Int32Array): Bl
 
 /** C -= A · B^T for b×b row-major blocks at the given offsets. */
 function subOuter(C: Float64Array, c: number, A: Float64Array, a: number, B: Float64Array, bo: number, b: number): void {
+  if (b === 6) return subOuter6(C, c, A, a, B, bo);
+  if (b === 3) return subOuter3(C, c, A, a, B, bo);
   for (let r = 0; r < b; r++) {
     for (let col = 0; col < b; col++) {
       let acc = 0;
       for (let t = 0; t < b; t++) acc += A[a + r * b + t]! * B[bo + col * b + t]!;
       C[c + r * b + col]! -= acc;
     }
+  }
+}
+
+/** subOuter for 6×6 blocks (SE(3) graphs) with the inner product unrolled: the hot kernel of the factorisation. */
+function subOuter6(C: Float64Array, c: number, A: Float64Array, a: number, B: Float64Array, bo: number): void {
+  for (let r = 0; r < 6; r++) {
+    const ar = a + r * 6;
+    const a0 = A[ar]!, a1 = A[ar + 1]!, a2 = A[ar + 2]!, a3 = A[ar + 3]!, a4 = A[ar + 4]!, a5 = A[ar + 5]!;
+    const cr = c + r * 6;
+    for (let col = 0; col < 6; col++) {
+      const bc = bo + col * 6;
+      C[cr + col]! -= a0 * B[bc]! + a1 * B[bc + 1]! + a2 * B[bc + 2]! + a3 * B[bc + 3]! + a4 * B[bc + 4]! + a5 * B[bc + 5]!;
+    }
+  }
+}
+
+/** subOuter for 3×3 blocks (planar graphs). */
+function subOuter3(C: Float64Array, c: number, A: Float64Array, a: number, B: Float64Array, bo: number): void {
+  for (let r = 0; r < 3; r++) {
+    const ar = a + r * 3;
+    const a0 = A[ar]!, a1 = A[ar + 1]!, a2 = A[ar + 2]!;
+    const cr = c + r * 3;
+    C[cr]! -= a0 * B[bo]! + a1 * B[bo + 1]! + a2 * B[bo + 2]!;
+    C[cr + 1]! -= a0 * B[bo + 3]! + a1 * B[bo + 4]! + a2 * B[bo + 5]!;
+    C[cr + 2]! -= a0 * B[bo + 6]! + a1 * B[bo + 7]! + a2 * B[bo + 8]!;
   }
 }
 

@@ -55,6 +55,8 @@ const MAX_DIM = 6;
 const rBuf = new Float64Array(MAX_DIM);
 const JiBuf = new Float64Array(MAX_DIM * MAX_DIM);
 const JjBuf = new Float64Array(MAX_DIM * MAX_DIM);
+const WJi = new Float64Array(MAX_DIM * MAX_DIM);
+const WJj = new Float64Array(MAX_DIM * MAX_DIM);
 
 /** Residual and Jacobians of edge e into the module scratch buffers. */
 function evalEdge(g: PoseGraph, e: number, withJacobians: boolean): void {
@@ -146,25 +148,40 @@ function assemble(g: PoseGraph, sv: PoseGraphSolver, diag: Float64Array, off: Fl
     const w = robustWeight(chi2, g.huber[e]!);
     for (let a = 0; a < d; a++) wv[a] = w * (a < nt ? g.infoT[e]! : g.infoR[e]!);
     const i = g.from[e]!, j = g.to[e]!, p = sv.pairOf[e]!, fl = sv.flipped[e]!;
-    for (let r = 0; r < d; r++) {
+    // W·J once per edge, then JᵀWJ blocks; the diagonal blocks are symmetric, so only their upper triangle is summed.
+    for (let a = 0; a < d; a++) {
+      const wa = wv[a]!;
       for (let c = 0; c < d; c++) {
-        let hii = 0, hjj = 0, hij = 0;
+        WJi[a * d + c] = wa * JiBuf[a * d + c]!;
+        WJj[a * d + c] = wa * JjBuf[a * d + c]!;
+      }
+    }
+    const di = i * dd, dj = j * dd, po = p * dd;
+    for (let r = 0; r < d; r++) {
+      for (let c = r; c < d; c++) {
+        let hii = 0, hjj = 0;
         for (let a = 0; a < d; a++) {
-          const wa = wv[a]!;
-          hii += JiBuf[a * d + r]! * wa * JiBuf[a * d + c]!;
-          hjj += JjBuf[a * d + r]! * wa * JjBuf[a * d + c]!;
-          hij += JiBuf[a * d + r]! * wa * JjBuf[a * d + c]!;
+          hii += JiBuf[a * d + r]! * WJi[a * d + c]!;
+          hjj += JjBuf[a * d + r]! * WJj[a * d + c]!;
         }
-        diag[i * dd + r * d + c]! += hii;
-        diag[j * dd + r * d + c]! += hjj;
+        diag[di + r * d + c]! += hii;
+        diag[dj + r * d + c]! += hjj;
+        if (c !== r) {
+          diag[di + c * d + r]! += hii;
+          diag[dj + c * d + r]! += hjj;
+        }
+      }
+      for (let c = 0; c < d; c++) {
+        let hij = 0;
+        for (let a = 0; a < d; a++) hij += JiBuf[a * d + r]! * WJj[a * d + c]!;
         // Stored pair (lo, hi): block H[lo, hi]. Edge i→j gives H[i, j] = hij; flipped means i = hi.
-        if (fl) off[p * dd + c * d + r]! += hij;
-        else off[p * dd + r * d + c]! += hij;
+        if (fl) off[po + c * d + r]! += hij;
+        else off[po + r * d + c]! += hij;
       }
       let gi = 0, gj = 0;
       for (let a = 0; a < d; a++) {
-        gi += JiBuf[a * d + r]! * wv[a]! * rBuf[a]!;
-        gj += JjBuf[a * d + r]! * wv[a]! * rBuf[a]!;
+        gi += WJi[a * d + r]! * rBuf[a]!;
+        gj += WJj[a * d + r]! * rBuf[a]!;
       }
       grad[i * d + r]! += gi;
       grad[j * d + r]! += gj;
