@@ -44,7 +44,8 @@ export function createBullmqQueue(opts: BullmqQueueOptions): JobQueue {
       removeOnFail: { count: opts.keepFailed ?? 5000 },
     },
   });
-  queue.on('error', () => undefined); // connection errors surface through ping() and enqueue rejections
+  const onError = opts.onError ?? (() => undefined);
+  queue.on('error', onError); // connection errors also surface through ping() and enqueue rejections
   const pinger = new Redis(opts.redisUrl, { lazyConnect: true, maxRetriesPerRequest: 1, connectTimeout: 2000 });
   pinger.on('error', () => undefined);
   const workers = new Set<Worker<AnalysisJob, void, string>>();
@@ -89,7 +90,7 @@ export function createBullmqQueue(opts: BullmqQueueOptions): JobQueue {
         stalledInterval: Math.max(1000, Math.floor(lockDurationMs / 2)),
         maxStalledCount: 1,
       });
-      worker.on('error', () => undefined);
+      worker.on('error', onError);
       workers.add(worker);
       return {
         async close() {

@@ -6,6 +6,7 @@ import type { JobQueue, QueueConfig } from './types.ts';
 /** BullMQ on Redis when `config.redisUrl` is set (several worker hosts), otherwise the embedded SQLite queue. */
 export function createQueue(config: QueueConfig, db: Database.Database): JobQueue {
   const retry = {
+    ...(config.onError !== undefined ? { onError: config.onError } : {}),
     ...(config.maxAttempts !== undefined ? { maxAttempts: config.maxAttempts } : {}),
     ...(config.backoffMs !== undefined ? { backoffMs: config.backoffMs } : {}),
   };

@@ -144,7 +144,8 @@ describe('embedded queue: housekeeping', () => {
 describe('embedded queue: database gone', () => {
   it('does not crash the process when the database closes under a running job', async () => {
     const db = openDatabase(':memory:');
-    const queue = createEmbeddedQueue(db, { pollIntervalMs: 20, leaseMs: 60 });
+    const errors: unknown[] = [];
+    const queue = createEmbeddedQueue(db, { pollIntervalMs: 20, leaseMs: 60, onError: (e) => errors.push(e) });
     await queue.enqueue(job(1));
     let started = false;
     const worker = queue.work(async () => {
@@ -155,5 +156,7 @@ describe('embedded queue: database gone', () => {
     db.close();
     await worker.close(); // resolves: completion bookkeeping failed quietly instead of rejecting
     expect(db.open).toBe(false);
+    expect(errors.length).toBeGreaterThan(0); // reported for logging
+    expect(String(errors[0])).toMatch(/not open/);
   });
 });

@@ -24,6 +24,7 @@ const KEEP_COMPLETED_MS = 24 * 3600_000;
 const PRUNE_EVERY_MS = 60_000;
 
 interface Settings {
+  onError: (err: unknown) => void;
   maxAttempts: number;
   backoffMs: number;
   leaseMs: number;
@@ -57,8 +58,8 @@ async function runJob(table: JobTable, s: Settings, claimed: ClaimedJob, handler
     const now = Date.now();
     try {
       table.renew(claimed.id, claimed.lease_token, now + s.leaseMs, now);
-    } catch {
-      // a missed renewal only shortens the lease; the next beat tries again
+    } catch (err) {
+      s.onError(err); // a missed renewal only shortens the lease; the next beat tries again
     }
   }, Math.max(10, Math.floor(s.leaseMs / 3)));
   let failure: unknown = null;
@@ -79,8 +80,8 @@ async function runJob(table: JobTable, s: Settings, claimed: ClaimedJob, handler
     }
     const last = failure instanceof UnrecoverableJobError || claimed.attempts >= claimed.max_attempts;
     table.fail(claimed.id, claimed.lease_token, errorText(failure), last ? null : now + retryDelayMs(claimed.attempts, s.backoffMs), now);
-  } catch {
-    // see above: the lease will lapse and the job run again
+  } catch (err) {
+    s.onError(err); // see above: the lease will lapse and the job run again
   }
 }
 
@@ -103,8 +104,9 @@ function startWorker(db: Database.Database, table: JobTable, s: Settings, handle
       let claimed: ClaimedJob | null;
       try {
         claimed = table.claim(Date.now(), s.leaseMs);
-      } catch {
-        break; // e.g. SQLITE_BUSY beyond busy_timeout: try again at the next poll
+      } catch (err) {
+        s.onError(err); // e.g. SQLITE_BUSY beyond busy_timeout: try again at the next poll
+        break;
       }
       if (!claimed) break;
       const p: Promise<void> = runJob(table, s, claimed, handler).finally(() => {
@@ -118,8 +120,8 @@ function startWorker(db: Database.Database, table: JobTable, s: Settings, handle
       prunedAt = now;
       try {
         table.pruneCompleted(now - KEEP_COMPLETED_MS);
-      } catch {
-        // pruning is housekeeping; a busy database just postpones it
+      } catch (err) {
+        s.onError(err); // pruning is housekeeping; a busy database just postpones it
       }
     }
     if (running) timer = setTimeout(fill, s.pollIntervalMs);
@@ -152,6 +154,7 @@ export function createEmbeddedQueue(db: Database.Database, opts: EmbeddedQueueOp
     leaseMs: opts.leaseMs ?? 30_000,
     pollIntervalMs: opts.pollIntervalMs ?? 500,
     queueName: opts.queueName ?? 'analysis',
+    onError: opts.onError ?? (() => undefined),
   };
   const table = createJobTable(db, s.queueName);
   const workers = new Set<QueueWorker>();

@@ -54,14 +54,17 @@ export interface JobQueue {
   close(): Promise<void>;
 }
 
-export interface RetryOptions {
+export interface CommonQueueOptions {
+  /** Called with infrastructure errors the queue recovers from by itself (database busy, Redis connection lost),
+   *  so the service can log them; the queue package does no logging of its own. */
+  onError?: (err: unknown) => void;
   /** Attempts before dead-lettering, including the first (default 5). */
   maxAttempts?: number;
   /** Delay before the first retry; doubles each retry (default 1000 ms). */
   backoffMs?: number;
 }
 
-export interface EmbeddedQueueOptions extends RetryOptions {
+export interface EmbeddedQueueOptions extends CommonQueueOptions {
   /** Lease length of a claimed job (default 30 s); renewed every `leaseMs / 3` while the handler runs. */
   leaseMs?: number;
   /** Poll interval when idle (default 500 ms); an enqueue in the same process wakes workers at once. */
@@ -70,7 +73,7 @@ export interface EmbeddedQueueOptions extends RetryOptions {
   queueName?: string;
 }
 
-export interface BullmqQueueOptions extends RetryOptions {
+export interface BullmqQueueOptions extends CommonQueueOptions {
   redisUrl: string;
   queueName?: string;
   /** Redis key prefix (default `plumbline`). */
@@ -86,7 +89,7 @@ export interface BullmqQueueOptions extends RetryOptions {
 }
 
 /** Config for `createQueue`: with `redisUrl` the BullMQ adapter is used, otherwise the embedded one. */
-export interface QueueConfig extends RetryOptions {
+export interface QueueConfig extends CommonQueueOptions {
   redisUrl?: string;
   queueName?: string;
   prefix?: string;
