@@ -16,3 +16,4 @@ export { buildSegments, healthScore, verdictOf } from './triage/score.ts';
 export { policyHash, policyFileText } from './triage/policy-hash.ts';
 export { buildReport } from './report/build-report.ts';
 export { reportJsonSchema } from '@plumbline/contracts';
+export * from './fleet/index.ts';

@@ -4,11 +4,11 @@
  * What: time_offset_s = odometry timestamp − IMU timestamp of the same physical instant (s), per window and for the
  * run, and the clock skew (ppm) as the slope of the per-window offsets against time.
  * Method: cross-correlation of the gyro angular-rate magnitude with the odometry angular-rate magnitude (from
- * consecutive orientations); magnitudes do not depend on the unknown IMU–odometry rotation. Both are resampled on
- * uniform grids (gyro box-averaged over one odometry period on a 10 ms grid, odometry linearly interpolated on a 1 ms
- * grid so every lag is an index shift); the normalised correlation is searched over ±maxLag on a 10 ms lattice, then
- * at 1 ms around the best lag, and refined by a parabola through the three best points (sub-sample interpolation,
- * common practice). Uncertainty: linearised delay estimation, σ² = σ_res² / Σ ȯ², counted over independent odometry
+ * consecutive orientations); magnitudes do not depend on the unknown IMU–odometry rotation. For a trial lag τ the gyro
+ * is integrated exactly over each odometry interval shifted by τ (running trapezoidal integral, evaluated between
+ * samples), so both series describe the same time spans and no resampling bias depends on the sub-sample phase;
+ * the normalised correlation is searched over ±maxLag on a 10 ms lattice, then at 1 ms around the best lag, and
+ * refined by a parabola through the three best points (sub-sample interpolation, common practice). Uncertainty: linearised delay estimation, σ² = σ_res² / Σ ȯ², counted over independent odometry
  * samples (the Cramér–Rao form for a time delay of a known waveform; S. M. Kay, "Fundamentals of Statistical Signal
  * Processing: Estimation Theory", 1993, §3.11 example — from memory). Skew: weighted least-squares line through
  * the per-window offsets, σ inflated by √(χ²/dof) when the scatter exceeds the stated sigmas.
@@ -46,8 +46,6 @@ export interface TimeOffsetResult {
   peakCorrelation: Float64Array;
 }
 
-const GYRO_GRID_S = 0.01;
-const ODOM_GRID_S = 0.001;
 
 /** Offset of the odometry clock against the IMU clock; see the module comment. */
 export function estimateTimeOffset(imu: ImuColumns, odom: OdometryColumns, options: TimeOffsetOptions = {}): TimeOffsetResult | Unsupported {
@@ -55,18 +53,18 @@ export function estimateTimeOffset(imu: ImuColumns, odom: OdometryColumns, optio
   const windowS = options.windowS ?? 60;
   if (odom.n < 10 || imu.n < 10) return { ok: false, reason: 'insufficient: too few samples' };
   const rate = odometryRate(odom);
-  const gyroMag = gyroMagnitude(imu, options.gyroBiasRadS ?? [0, 0, 0], rate.period);
+  const bias = options.gyroBiasRadS ?? [0, 0, 0];
   const t0 = Math.max(imu.t[0]!, odom.t[0]! + maxLag), t1 = Math.min(imu.t[imu.n - 1]!, odom.t[odom.n - 1]! - maxLag);
   if (!(t1 - t0 > 5)) return { ok: false, reason: 'insufficient: IMU and odometry overlap by less than 5 s' };
   const nw = Math.max(1, Math.floor((t1 - t0) / windowS));
   const span = (t1 - t0) / nw;
   const windows = emptySeries('s', nw);
   const peak = new Float64Array(nw);
-  const scratch = createScratch(span, maxLag);
+  const scratch = createScratch(imu, rate, span, maxLag);
   for (let w = 0; w < nw; w++) {
     const a = t0 + w * span;
     windows.t[w] = a + span / 2;
-    const r = offsetInWindow(imu, gyroMag, rate, a, a + span, maxLag, scratch, options);
+    const r = offsetInWindow(imu, rate, a, a + span, maxLag, scratch, bias, options);
     peak[w] = r.peak;
     if ('reason' in r) windows.reasons[w] = r.reason;
     else {
@@ -78,63 +76,46 @@ export function estimateTimeOffset(imu: ImuColumns, odom: OdometryColumns, optio
 }
 
 interface OdomRate {
-  tMid: Float64Array;
-  mag: Float64Array;
+  /** Odometry stamps (odometry clock) and |Δθ| over each interval (rad). */
+  t: Float64Array;
+  angle: Float64Array;
+  n: number;
   period: number;
 }
 
-/** |ω| of the odometry from consecutive orientations, at interval mid-times (rad/s). */
+/** |Δθ| of the odometry between consecutive orientations (rad), interval k = [t_k, t_k+1]. */
 function odometryRate(odom: OdometryColumns): OdomRate {
   const n = odom.n - 1;
-  const tMid = new Float64Array(n), mag = new Float64Array(n);
+  const angle = new Float64Array(n);
   for (let k = 0; k < n; k++) {
-    const dt = odom.t[k + 1]! - odom.t[k]!;
-    tMid[k] = odom.t[k]! + dt / 2;
     const w = odom.qw[k]! * odom.qw[k + 1]! + odom.qx[k]! * odom.qx[k + 1]! + odom.qy[k]! * odom.qy[k + 1]! + odom.qz[k]! * odom.qz[k + 1]!;
-    mag[k] = dt > 0 ? (2 * Math.acos(Math.min(1, Math.abs(w)))) / dt : 0;
+    angle[k] = 2 * Math.acos(Math.min(1, Math.abs(w)));
   }
-  return { tMid, mag, period: (odom.t[odom.n - 1]! - odom.t[0]!) / n };
-}
-
-/** |ω − b| per IMU sample, box-averaged over one odometry period (centred, so it adds no lag). */
-function gyroMagnitude(imu: ImuColumns, b: ArrayLike<number>, period: number): Float64Array {
-  const n = imu.n;
-  const raw = new Float64Array(n + 1); // prefix sums
-  const b0 = b[0]!, b1 = b[1]!, b2 = b[2]!;
-  for (let i = 0; i < n; i++) {
-    const x = imu.gx[i]! - b0, y = imu.gy[i]! - b1, z = imu.gz[i]! - b2;
-    raw[i + 1] = raw[i]! + Math.sqrt(x * x + y * y + z * z);
-  }
-  const fs = (n - 1) / (imu.t[n - 1]! - imu.t[0]!);
-  const half = Math.max(0, Math.round((period * fs) / 2));
-  const out = new Float64Array(n);
-  for (let i = 0; i < n; i++) {
-    const a = Math.max(0, i - half), c = Math.min(n, i + half + 1);
-    out[i] = (raw[c]! - raw[a]!) / (c - a);
-  }
-  return out;
+  return { t: odom.t, angle, n, period: (odom.t[odom.n - 1]! - odom.t[0]!) / n };
 }
 
 interface Scratch {
+  /** Trapezoidal running integral of (ω − b) over the window's IMU samples, per axis, and the sample times. */
+  px: Float64Array;
+  py: Float64Array;
+  pz: Float64Array;
+  wx: Float64Array;
+  wy: Float64Array;
+  wz: Float64Array;
+  t: Float64Array;
+  ia: Float64Array;
+  ib: Float64Array;
+  /** Gyro |∫ω| / Δt per odometry interval at the current lag; odometry |Δθ| / Δt. */
   g: Float64Array;
   o: Float64Array;
-  od: Float64Array;
 }
 
-function createScratch(span: number, maxLag: number): Scratch {
-  const ng = Math.ceil(span / GYRO_GRID_S) + 2;
-  const no = Math.ceil((span + 2 * maxLag + 0.1) / ODOM_GRID_S) + 2;
-  return { g: new Float64Array(ng), o: new Float64Array(no), od: new Float64Array(no) };
-}
-
-/** Linear interpolation of (tx, vx) at time t with a moving cursor; returns [value, cursor]. */
-function interpAt(tx: Float64Array, vx: Float64Array, n: number, t: number, cur: number): number {
-  let k = cur;
-  while (k + 1 < n && tx[k + 1]! <= t) k++;
-  if (k + 1 >= n) return vx[n - 1]!;
-  if (tx[k]! > t) return vx[k]!;
-  const f = (t - tx[k]!) / (tx[k + 1]! - tx[k]!);
-  return vx[k]! + f * (vx[k + 1]! - vx[k]!);
+function createScratch(imu: ImuColumns, rate: OdomRate, span: number, maxLag: number): Scratch {
+  const fs = (imu.n - 1) / (imu.t[imu.n - 1]! - imu.t[0]!);
+  const ni = Math.ceil((span + 2 * maxLag + 1) * fs * 1.1) + 8;
+  const no = Math.ceil((span / rate.period) * 1.2) + 8;
+  const f = () => new Float64Array(ni);
+  return { px: f(), py: f(), pz: f(), wx: f(), wy: f(), wz: f(), t: f(), ia: new Float64Array(3), ib: new Float64Array(3), g: new Float64Array(no), o: new Float64Array(no) };
 }
 
 function cursorBefore(tx: Float64Array, n: number, t: number): number {
@@ -150,87 +131,138 @@ function cursorBefore(tx: Float64Array, n: number, t: number): number {
 
 type WindowOffset = { offset: number; sigma: number; peak: number } | { reason: string; peak: number };
 
+interface WindowData {
+  s: Scratch;
+  /** IMU samples in the scratch integral and odometry intervals k0..k0+m of the window. */
+  ni: number;
+  k0: number;
+  m: number;
+  rate: OdomRate;
+}
+
+/**
+ * Gyro rate magnitude over every odometry interval shifted by lag τ: |∫ (ω − b) dt| / Δt over
+ * [t_k − τ, t_k+1 − τ] (IMU clock), with the integral of the linearly interpolated rate (exact for the trapezoid rule),
+ * so no resampling of either signal is involved. Fills s.g; cursor sweep, O(m + samples).
+ */
+function gyroAtLag(d: WindowData, tau: number): void {
+  const { s, rate } = d;
+  let c = 0;
+  // ∫ of the linearly interpolated rate from the window start to T: P_c + ω_c·u + ½(ω_c+1 − ω_c)·u²/h.
+  const at = (T: number, out: Float64Array) => {
+    while (c + 2 < d.ni && s.t[c + 1]! <= T) c++;
+    const h = s.t[c + 1]! - s.t[c]!, u = T - s.t[c]!, f = (u * u) / (2 * h);
+    out[0] = s.px[c]! + s.wx[c]! * u + (s.wx[c + 1]! - s.wx[c]!) * f;
+    out[1] = s.py[c]! + s.wy[c]! * u + (s.wy[c + 1]! - s.wy[c]!) * f;
+    out[2] = s.pz[c]! + s.wz[c]! * u + (s.wz[c + 1]! - s.wz[c]!) * f;
+  };
+  const a = s.ia, b = s.ib;
+  for (let j = 0; j < d.m; j++) {
+    const k = d.k0 + j;
+    const t0 = rate.t[k]! - tau, t1 = rate.t[k + 1]! - tau;
+    at(t0, a);
+    at(t1, b);
+    const x = b[0]! - a[0]!, y = b[1]! - a[1]!, z = b[2]! - a[2]!;
+    s.g[j] = Math.sqrt(x * x + y * y + z * z) / (t1 - t0);
+  }
+}
+
 function offsetInWindow(
-  imu: ImuColumns, gyroMag: Float64Array, rate: OdomRate, a: number, b: number, maxLag: number, s: Scratch, options: TimeOffsetOptions,
+  imu: ImuColumns, rate: OdomRate, a: number, b: number, maxLag: number, s: Scratch, bias: ArrayLike<number>, options: TimeOffsetOptions,
 ): WindowOffset {
-  const ng = Math.floor((b - a) / GYRO_GRID_S);
-  const oStart = a - maxLag - 0.05;
-  const no = Math.floor((b - a + 2 * maxLag + 0.1) / ODOM_GRID_S);
-  let cur = cursorBefore(imu.t, imu.n, a);
-  let sg = 0, sgg = 0;
-  for (let i = 0; i < ng; i++) {
-    const v = interpAt(imu.t, gyroMag, imu.n, a + i * GYRO_GRID_S, cur);
-    while (cur + 1 < imu.n && imu.t[cur + 1]! <= a + i * GYRO_GRID_S) cur++;
-    s.g[i] = v;
-    sg += v;
-    sgg += v * v;
+  // IMU samples covering [a − maxLag − 0.1, b + maxLag + 0.1]; running integral by the trapezoid rule.
+  const i0 = cursorBefore(imu.t, imu.n, a - maxLag - 0.1);
+  let ni = 0;
+  for (let i = i0; i < imu.n && ni < s.t.length && imu.t[i]! <= b + maxLag + 0.1; i++, ni++) {
+    s.t[ni] = imu.t[i]!;
+    s.wx[ni] = imu.gx[i]! - bias[0]!;
+    s.wy[ni] = imu.gy[i]! - bias[1]!;
+    s.wz[ni] = imu.gz[i]! - bias[2]!;
+    if (ni === 0) {
+      s.px[0] = s.py[0] = s.pz[0] = 0;
+    } else {
+      const h = s.t[ni]! - s.t[ni - 1]!;
+      s.px[ni] = s.px[ni - 1]! + 0.5 * (s.wx[ni]! + s.wx[ni - 1]!) * h;
+      s.py[ni] = s.py[ni - 1]! + 0.5 * (s.wy[ni]! + s.wy[ni - 1]!) * h;
+      s.pz[ni] = s.pz[ni - 1]! + 0.5 * (s.wz[ni]! + s.wz[ni - 1]!) * h;
+    }
   }
-  const gStd = Math.sqrt(Math.max(0, sgg / ng - (sg / ng) ** 2));
-  if (gStd < (options.minRateStdRadS ?? 0.03)) return { reason: 'unobservable: too little rotation to correlate', peak: 0 };
-  let oc = cursorBefore(rate.tMid, rate.mag.length, oStart);
-  for (let i = 0; i < no; i++) {
-    const t = oStart + i * ODOM_GRID_S;
-    s.o[i] = interpAt(rate.tMid, rate.mag, rate.mag.length, t, oc);
-    while (oc + 1 < rate.mag.length && rate.tMid[oc + 1]! <= t) oc++;
-  }
-  const ratio = Math.round(GYRO_GRID_S / ODOM_GRID_S);
-  const base = Math.round((a - oStart) / ODOM_GRID_S); // odometry index of gyro grid point 0 at zero lag
-  const maxMs = Math.round(maxLag / ODOM_GRID_S);
-  const corr = (lag: number): number => correlation(s.g, s.o, ng, base + lag, ratio, sg, sgg);
-  let best = -2, bestLag = 0;
-  for (let lag = -maxMs; lag <= maxMs; lag += 10) {
-    const c = corr(lag);
-    if (c > best) [best, bestLag] = [c, lag];
-  }
-  const lo = Math.max(-maxMs + 1, bestLag - 10), hi = Math.min(maxMs - 1, bestLag + 10);
-  for (let lag = lo; lag <= hi; lag++) {
-    const c = corr(lag);
-    if (c > best) [best, bestLag] = [c, lag];
-  }
-  if (best < (options.minPeakCorrelation ?? 0.6)) return { reason: 'unobservable: no distinct correlation peak', peak: best };
-  if (Math.abs(bestLag) >= maxMs - 1) return { reason: 'insufficient: correlation peak at the edge of the search range', peak: best };
-  const cm = corr(bestLag - 1), cp = corr(bestLag + 1);
-  const den = cm - 2 * best + cp;
-  const frac = den < 0 ? (0.5 * (cm - cp)) / den : 0;
-  const offset = (bestLag + frac) * ODOM_GRID_S;
-  const sigma = delaySigma(s, ng, base + Math.round(offset / ODOM_GRID_S), ratio, rate.period);
-  return { offset, sigma, peak: best };
-}
-
-/** Pearson correlation of g[0..ng) with o[start + i·ratio]. */
-function correlation(g: Float64Array, o: Float64Array, ng: number, start: number, ratio: number, sg: number, sgg: number): number {
-  let so = 0, soo = 0, sgo = 0;
-  for (let i = 0, j = start; i < ng; i++, j += ratio) {
-    const v = o[j]!;
-    so += v;
-    soo += v * v;
-    sgo += g[i]! * v;
-  }
-  const cov = sgo - (sg * so) / ng;
-  const vg = sgg - (sg * sg) / ng, vo = soo - (so * so) / ng;
-  return vg > 0 && vo > 0 ? cov / Math.sqrt(vg * vo) : -1;
-}
-
-/** σ of the delay: residual of o ≈ α g + β at the best lag over Σ ȯ², with one independent sample per odometry period. */
-function delaySigma(s: Scratch, ng: number, start: number, ratio: number, period: number): number {
-  let sg = 0, so = 0, sgg = 0, sgo = 0;
-  for (let i = 0, j = start; i < ng; i++, j += ratio) {
-    sg += s.g[i]!;
+  // Odometry intervals whose IMU-clock span at zero lag lies inside [a, b].
+  let k0 = cursorBefore(rate.t, rate.n + 1, a);
+  if (rate.t[k0]! < a) k0++;
+  let m = 0;
+  while (k0 + m < rate.n && rate.t[k0 + m + 1]! <= b && m < s.o.length) m++;
+  if (ni < 4 || m < 20) return { reason: 'insufficient: too few samples in the window', peak: 0 };
+  let so = 0, soo = 0;
+  for (let j = 0; j < m; j++) {
+    const k = k0 + j;
+    s.o[j] = rate.angle[k]! / (rate.t[k + 1]! - rate.t[k]!);
     so += s.o[j]!;
-    sgg += s.g[i]! ** 2;
-    sgo += s.g[i]! * s.o[j]!;
+    soo += s.o[j]! ** 2;
   }
-  const alpha = (sgo - (sg * so) / ng) / (sgg - (sg * sg) / ng);
-  const beta = (so - alpha * sg) / ng;
+  const oStd = Math.sqrt(Math.max(0, soo / m - (so / m) ** 2));
+  if (oStd < (options.minRateStdRadS ?? 0.03)) return { reason: 'unobservable: too little rotation to correlate', peak: 0 };
+  const d: WindowData = { s, ni, k0, m, rate };
+  const corr = (tau: number): number => {
+    gyroAtLag(d, tau);
+    return pearson(s.g, s.o, m);
+  };
+  const search = (lo: number, hi: number, step: number, best: { c: number; tau: number }) => {
+    for (let tau = lo; tau <= hi + 1e-12; tau += step) {
+      const c = corr(tau);
+      if (c > best.c) [best.c, best.tau] = [c, tau];
+    }
+  };
+  const best = { c: -2, tau: 0 };
+  search(-maxLag, maxLag, 0.01, best);
+  search(best.tau - 0.01, best.tau + 0.01, 0.001, best);
+  if (best.c < (options.minPeakCorrelation ?? 0.6)) return { reason: 'unobservable: no distinct correlation peak', peak: best.c };
+  if (Math.abs(best.tau) >= maxLag - 0.001) return { reason: 'insufficient: correlation peak at the edge of the search range', peak: best.c };
+  const cm = corr(best.tau - 0.001), cp = corr(best.tau + 0.001);
+  const den = cm - 2 * best.c + cp;
+  const offset = best.tau + (den < 0 ? (0.5 * (cm - cp)) / den : 0) * 0.001;
+  return { offset, sigma: delaySigma(d, offset), peak: best.c };
+}
+
+/** Pearson correlation of x[0..m) and y[0..m). */
+function pearson(x: Float64Array, y: Float64Array, m: number): number {
+  let sx = 0, sy = 0, sxx = 0, syy = 0, sxy = 0;
+  for (let i = 0; i < m; i++) {
+    const a = x[i]!, b = y[i]!;
+    sx += a;
+    sy += b;
+    sxx += a * a;
+    syy += b * b;
+    sxy += a * b;
+  }
+  const vx = sxx - (sx * sx) / m, vy = syy - (sy * sy) / m;
+  return vx > 0 && vy > 0 ? (sxy - (sx * sy) / m) / Math.sqrt(vx * vy) : -1;
+}
+
+/** σ of the delay: residual of o ≈ α·g(τ̂) + β over α²·Σ ġ², one independent sample per odometry interval. */
+function delaySigma(d: WindowData, tau: number): number {
+  const { s, m } = d;
+  const h = 0.002;
+  gyroAtLag(d, tau + h);
+  const gp = s.g.slice(0, m);
+  gyroAtLag(d, tau - h);
+  const gm = s.g.slice(0, m);
+  gyroAtLag(d, tau);
+  let sg = 0, so = 0, sgg = 0, sgo = 0;
+  for (let j = 0; j < m; j++) {
+    sg += s.g[j]!;
+    so += s.o[j]!;
+    sgg += s.g[j]! ** 2;
+    sgo += s.g[j]! * s.o[j]!;
+  }
+  const alpha = (sgo - (sg * so) / m) / (sgg - (sg * sg) / m);
+  const beta = (so - alpha * sg) / m;
   let res = 0, slope = 0;
-  for (let i = 0, j = start; i < ng; i++, j += ratio) {
-    const r = s.o[j]! - alpha * s.g[i]! - beta;
-    res += r * r;
-    const d = (s.o[j + 1]! - s.o[j - 1]!) / (2 * ODOM_GRID_S);
-    slope += d * d;
+  for (let j = 0; j < m; j++) {
+    res += (s.o[j]! - alpha * s.g[j]! - beta) ** 2;
+    slope += (alpha * (gp[j]! - gm[j]!) / (2 * h)) ** 2;
   }
-  const independent = Math.min(1, GYRO_GRID_S / period); // grid points per independent odometry sample
-  return Math.sqrt(res / ng / (slope * independent));
+  return Math.sqrt(res / Math.max(1, m - 2) / slope);
 }
 
 function combineWindows(windows: WindowSeries, peak: Float64Array): TimeOffsetResult | Unsupported {

@@ -31,6 +31,8 @@ export interface GnssComparison {
   track: FixTrack;
   /** Whole-run robust alignment odometry world → ENU. */
   global: Alignment;
+  /** Whether the alignment estimated the scale (monocular odometry) or held it at 1. */
+  scaleFree: boolean;
   /** Per good fix: horizontal and vertical residual after the local (windowed) alignment, metres. */
   errH: Float64Array;
   errV: Float64Array;
@@ -121,7 +123,7 @@ export function compareWithGnss(
   const rmseH = Math.sqrt(ss / k);
   const local = windowedResiduals(track, opts, global.scale, Math.max(120, 12 * th.window_s));
   const findings = divergenceFindings(track, local.errH, th['gnss-divergence'].warn ?? Number.POSITIVE_INFINITY);
-  return { ok: true, origin: built.origin, gating, allE: built.allE, allN: built.allN, allU: built.allU, track, global, errH: local.errH, errV: local.errV, rmseH, windowT: local.windowT, windowHeadingDeg: local.headingDeg, findings };
+  return { ok: true, origin: built.origin, gating, allE: built.allE, allN: built.allN, allU: built.allU, track, global, scaleFree: manifest.odometry.monocular, errH: local.errH, errV: local.errV, rmseH, windowT: local.windowT, windowHeadingDeg: local.headingDeg, findings };
 }
 
 /**

@@ -1,6 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import type { LoopColumns, OdometryColumns } from '@plumbline/bundle';
 import { DEFAULT_POLICY, RunManifest } from '@plumbline/contracts';
+import { stats } from '@plumbline/geometry';
 import { analyzeLoops } from './loop-analysis.ts';
 import { cumulativeDistance } from './path.ts';
 import { repairTrajectory, trajectoryCsv } from './repair.ts';
@@ -75,6 +76,8 @@ describe('loop analysis: dock return over a 500 m loop with 1 % drift', () => {
     const robot = r.loops.find((l) => l.source === 'robot')!;
     expect(robot.accepted).toBe(false);
     expect(robot.chi2Threshold).toBeCloseTo(7.815, 3);
+    // The SE(3) gate for 6 dof is the 12.592 of the same table (NIST/SEMATECH e-Handbook §1.3.6.7.4).
+    expect(stats.chiSquareQuantile(0.95, 6)).toBeCloseTo(12.592, 3);
     expect(robot.chi2!).toBeGreaterThan(7.815);
     expect(r.loops.find((l) => l.source === 'dock')!.accepted).toBe(true);
     expect(r.findings.map((f) => f.kind)).toEqual(['loop-mismatch']);

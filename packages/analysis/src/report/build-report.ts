@@ -80,6 +80,8 @@ function series(p: ReportParts): ReportSeries {
     rotation_residual_deg_s: windowSeries(s.rotation_residual_deg_s, t0),
     time_offset_ms: windowSeries(s.time_offset_s, t0, 'ms', 1000),
     gnss_error_m: g ? scalarSeries('m', g.track.t, g.errH, t0) : null,
+    gnss_vertical_error_m: g ? scalarSeries('m', g.track.t, g.errV, t0) : null,
+    gnss_heading_offset_deg: g ? scalarSeries('deg', g.windowT, g.windowHeadingDeg, t0) : null,
     imu_gyro_norm_rad_s: norms.gyro,
     imu_accel_norm_m_s2: norms.accel,
   };

@@ -41,9 +41,18 @@ export function buildEstimates(inertial: InertialAnalysis, gnss: GnssResult | nu
     gyro_noise_density: scalarEstimate(e.gyro_noise_density),
     accel_noise_density: scalarEstimate(e.accel_noise_density),
     gnss_rmse_m: gnss === null ? none('m', 'unobservable: the bundle has no GNSS') : gnss.ok ? { value: gnss.rmseH, sigma: null, unit: 'm' } : none('m', gnss.reason),
+    gnss_scale: gnssScale(gnss),
     loop_drift_pct: drift ? { value: drift.value, sigma: drift.sigma, unit: '%' } : none('%', noLoops),
     loop_drift_deg_per_m: driftR ? { value: driftR.value, sigma: driftR.sigma, unit: 'deg/m' } : none('deg/m', noLoops),
   };
+}
+
+/** Scale of odometry against GNSS (free only for monocular odometry; metric odometry holds it at 1). */
+function gnssScale(gnss: GnssResult | null): ScalarEstimate {
+  if (gnss === null) return none('', 'unobservable: the bundle has no GNSS');
+  if (!gnss.ok) return none('', gnss.reason);
+  if (!gnss.scaleFree) return none('', 'not applicable: metric odometry, scale held at 1 in the GNSS alignment');
+  return { value: gnss.global.scale, sigma: null, unit: '' };
 }
 
 function intervals(xs: readonly TimeInterval[], t0: number): Interval[] {
