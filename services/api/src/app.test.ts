@@ -92,3 +92,42 @@ describe('rate limit on failed authentication', () => {
     }
   });
 });
+
+describe('readiness', () => {
+  it('answers 503 with the failing part when the queue does not answer', async () => {
+    const { createEmbeddedQueue } = await import('@plumbline/queue');
+    const down = await createTestApp({
+      makeQueue: (db) => Object.assign(createEmbeddedQueue(db), { ping: async () => false }),
+    });
+    try {
+      const r = await down.app.inject({ method: 'GET', url: '/readyz' });
+      expect(r.statusCode).toBe(503);
+      expect(r.json()).toMatchObject({ code: 'NOT_READY', database: true, queue: false });
+    } finally {
+      await down.close();
+    }
+  });
+});
+
+describe('rate limit on uploads', () => {
+  it('answers 429 with Retry-After past the per-token limit', async () => {
+    const small = await createTestApp({ env: { PLUMBLINE_UPLOAD_RATE_PER_MIN: '2' } });
+    try {
+      const open = () =>
+        small.app.inject({
+          method: 'POST',
+          url: '/api/v1/uploads',
+          headers: { authorization: `Bearer ${small.tokens.robot}` },
+          payload: { robot_id: 'kestrel-01', run_id: 'r', size_bytes: 10, sha256: 'd'.repeat(64) },
+        });
+      expect([(await open()).statusCode, (await open()).statusCode]).toEqual([201, 201]);
+      const third = await open();
+      expect(third.statusCode).toBe(429);
+      // 2 per minute: one token every 30 s.
+      expect(third.headers['retry-after']).toBe('30');
+      expect(third.json().code).toBe('RATE_LIMITED');
+    } finally {
+      await small.close();
+    }
+  });
+});
