@@ -1,7 +1,8 @@
 /**
  * End-to-end test of the dashboard: the real API app (in-memory SQLite, embedded queue) serves the built dashboard,
- * Debian's chromium drives it through playwright-core. Runs are inserted through the store with schema-valid
- * reports (services/dashboard/dev/fixture-report.ts), so this test checks the UI against the API as it is.
+ * Debian's chromium drives it through playwright-core. Runs are inserted through the store: schema-valid fixture
+ * reports with known flags (services/dashboard/dev/fixture-report.ts) for the exact checks, plus one demo-fleet
+ * bundle analysed by packages/analysis, so the UI is also exercised on real analysis output.
  */
 import { existsSync } from 'node:fs';
 import { mkdir, mkdtemp, rm } from 'node:fs/promises';
@@ -9,7 +10,8 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { Browser, Page } from 'playwright-core';
-import { Review } from '@plumbline/contracts';
+import { Review, type Report } from '@plumbline/contracts';
+import { analyzeBundle } from '@plumbline/analysis';
 import { createTestApp, type TestApp } from '../services/api/src/testing.ts';
 import { buildDashboard } from '../services/dashboard/build.ts';
 import { buildFixtureRuns } from '../services/dashboard/dev/fixture-api.ts';
@@ -32,17 +34,22 @@ interface Seeded {
   durationS: number;
 }
 
-async function seed(t: TestApp): Promise<Seeded[]> {
-  const out: Seeded[] = [];
-  for (const fx of buildFixtureRuns()) {
-    const s = fx.summary;
-    const created = t.store.runs.create({ robot_id: s.robot_id, run_id: s.run_id, site: s.site, started_at: s.started_at, sha256: s.sha256, size_bytes: s.size_bytes });
-    const ticket = t.store.runs.requestAnalysis(created.run.id);
-    if (!ticket) throw new Error('requestAnalysis returned null');
-    t.store.reports.recordAnalysis(created.run.id, fx.report, ticket.job_key);
-    out.push({ id: created.run.id, robot: s.robot_id, verdict: fx.report.verdict, flagKinds: fx.report.flags.map((f) => f.kind), durationS: fx.report.run.duration_s });
-  }
-  return out;
+/** A demo-fleet bundle with a false loop closure and GNSS, analysed for real (packages/analysis). */
+const SEED_BUNDLE = join(process.cwd(), 'seed-runs', 'heron-01', 'r0303-1500', 'bundle');
+
+function insert(t: TestApp, report: Report, sha256: string): Seeded {
+  const r = report.run;
+  const created = t.store.runs.create({ robot_id: r.robot_id, run_id: r.run_id, site: r.site, started_at: r.started_at, sha256, size_bytes: 1000 });
+  const ticket = t.store.runs.requestAnalysis(created.run.id);
+  if (!ticket) throw new Error('requestAnalysis returned null');
+  t.store.reports.recordAnalysis(created.run.id, report, ticket.job_key);
+  return { id: created.run.id, robot: r.robot_id, verdict: report.verdict, flagKinds: report.flags.map((f) => f.kind), durationS: r.duration_s };
+}
+
+async function seed(t: TestApp): Promise<{ fixtures: Seeded[]; analysed: Seeded & { report: Report } }> {
+  const fixtures = buildFixtureRuns().map((fx) => insert(t, fx.report, fx.summary.sha256));
+  const report = await analyzeBundle(SEED_BUNDLE);
+  return { fixtures, analysed: { ...insert(t, report, 'f'.repeat(64)), report } };
 }
 
 /** Pixels of a canvas that differ from its most common colour (the background), read in the page. */
@@ -86,6 +93,7 @@ describe.skipIf(!haveBrowser)('dashboard end to end', () => {
   let page: Page;
   let base: string;
   let runs: Seeded[];
+  let analysed: Seeded & { report: Report };
   let distDir: string;
   const pageErrors: string[] = [];
 
@@ -93,7 +101,9 @@ describe.skipIf(!haveBrowser)('dashboard end to end', () => {
     distDir = await mkdtemp(join(tmpdir(), 'plumbline-dash-'));
     await buildDashboard(distDir);
     t = await createTestApp({ deps: { dashboardDir: distDir } });
-    runs = await seed(t);
+    const seeded = await seed(t);
+    runs = seeded.fixtures;
+    analysed = seeded.analysed;
     base = await t.app.listen({ host: '127.0.0.1', port: 0 });
     const { chromium } = await import('playwright-core');
     browser = await chromium.launch({
@@ -121,15 +131,17 @@ describe.skipIf(!haveBrowser)('dashboard end to end', () => {
     await page.click('form.login button[type=submit]');
     await page.waitForSelector('table.runs tbody tr');
     const rows = await page.$$eval('table.runs tbody tr', (trs) => trs.map((tr) => ({ id: tr.getAttribute('data-run'), text: tr.textContent ?? '' })));
-    expect(rows).toHaveLength(runs.length);
+    const all = [...runs, analysed];
+    expect(rows).toHaveLength(all.length);
     // Priority: critical runs (verdict unfit) come before warnings, and sound runs last.
-    const firstSound = rows.findIndex((r) => r.text.includes('sound'));
-    const lastUnfit = rows.map((r) => r.text.includes('unfit')).lastIndexOf(true);
-    expect(lastUnfit).toBeLessThan(firstSound);
-    expect(rows[0]!.text).toContain('critical');
+    // Priority: worst severity first — every critical row before every warning row, warnings before the rest.
+    const rank = (text: string) => (text.includes('critical') ? 0 : text.includes('warning') ? 1 : 2);
+    const ranks = rows.map((r) => rank(r.text));
+    expect(ranks).toEqual([...ranks].sort((a, b) => a - b));
+    expect(ranks[0]).toBe(0);
     const counts = await page.$eval('.counts', (el) => el.textContent ?? '');
-    const unfit = runs.filter((r) => r.verdict === 'unfit').length;
-    expect(counts).toContain(`${runs.length}awaiting decision`);
+    const unfit = all.filter((r) => r.verdict === 'unfit').length;
+    expect(counts).toContain(`${all.length}awaiting decision`);
     expect(counts).toContain(`${unfit}✕ unfit`);
     expect(await page.evaluate(() => localStorage.getItem('plumbline.token'))).toBe(t.tokens.lead);
     await page.screenshot({ path: join(ARTIFACTS, 'dashboard-queue.png') });
@@ -143,15 +155,15 @@ describe.skipIf(!haveBrowser)('dashboard end to end', () => {
       return rows.length > 0 && rows.every((tr) => tr.textContent?.includes('sound'));
     });
     const n = await page.$$eval('table.runs tbody tr', (trs) => trs.length);
-    expect(n).toBe(runs.filter((r) => r.verdict === 'sound').length);
+    expect(n).toBe([...runs, analysed].filter((r) => r.verdict === 'sound').length);
     await page.goto(`${base}/#/queue?robot_id=kestrel-01&from=2026-11-30&to=2026-11-30`);
-    const k1 = runs.filter((r) => r.robot === 'kestrel-01').length;
+    const k1 = runs.filter((r) => r.robot === 'kestrel-01').length; // the analysed seed run is heron-01's
     await page.waitForFunction((k) => document.querySelectorAll('table.runs tbody tr[data-run]').length === k, k1);
     await page.goto(`${base}/#/queue?from=2026-12-01`);
     await page.waitForSelector('p.empty');
     expect(await page.textContent('p.empty')).toContain('Nothing awaits a decision');
     await page.goto(`${base}/#/queue`);
-    await page.waitForFunction((k) => document.querySelectorAll('table.runs tbody tr').length === k, runs.length);
+    await page.waitForFunction((k) => document.querySelectorAll('table.runs tbody tr').length === k, runs.length + 1);
   });
 
   it('moves through the queue with j/k and opens a run with Enter', async () => {
@@ -170,6 +182,10 @@ describe.skipIf(!haveBrowser)('dashboard end to end', () => {
   });
 
   it('renders the map, the plots, the flags, the estimates and the safety caution', async () => {
+    // A fixture run with a known critical scale-drift flag, a false loop and an unobservable estimate.
+    const scaleRun = runs.find((r) => r.flagKinds.includes('scale-drift'))!;
+    await page.goto(`${base}/#/runs/${scaleRun.id}`);
+    await page.waitForSelector('.plot-base');
     await page.waitForTimeout(150); // one animation frame for the ResizeObserver-driven first draw
     const [mapInk] = await inkedPixels(page, '.map-base');
     expect(mapInk).toBeGreaterThan(2000);
@@ -183,9 +199,6 @@ describe.skipIf(!haveBrowser)('dashboard end to end', () => {
     expect(await page.textContent('.estimates')).toMatch(/±/);
     expect(await page.textContent('.estimates')).toContain('not observable');
     await page.screenshot({ path: join(ARTIFACTS, 'dashboard-run.png'), fullPage: true });
-    await page.evaluate(() => window.scrollTo(0, 0));
-    await mkdir(join(process.cwd(), 'docs'), { recursive: true });
-    await page.screenshot({ path: SCREENSHOT_DOC });
   });
 
   it('hatches the flagged interval on its plot and not elsewhere', async () => {
@@ -271,10 +284,30 @@ describe.skipIf(!haveBrowser)('dashboard end to end', () => {
     expect(elapsed).toBeLessThan(8000); // generous: shared 2-core CI machine; typical is well under a second
   });
 
+  it('renders a run analysed from a demo bundle: map, every series, every flag', async () => {
+    await page.goto(`${base}/#/runs/${analysed.id}`);
+    await page.reload(); // a fresh page: no status message left from earlier steps in the screenshot
+    await page.waitForSelector('.plot-base');
+    await page.waitForTimeout(150);
+    const [mapInk] = await inkedPixels(page, '.map-base');
+    expect(mapInk).toBeGreaterThan(2000);
+    const seriesKeys = Object.entries(analysed.report.series).filter(([, v]) => v !== null && 'v' in v).map(([k]) => k);
+    const plotted = await page.$$eval('.plot', (els) => els.map((e) => (e as HTMLElement).dataset.series));
+    expect([...plotted].sort()).toEqual([...seriesKeys].sort());
+    for (const n of await inkedPixels(page, '.plot-base')) expect(n).toBeGreaterThan(200);
+    const listed = await page.$$eval('li[data-flag]', (lis) => lis.map((li) => li.getAttribute('data-flag')));
+    expect([...listed].sort()).toEqual(analysed.report.flags.map((f) => f.id).sort());
+    const rejected = analysed.report.loops.filter((l) => !l.accepted).length;
+    if (rejected > 0) expect(await page.textContent('.legend')).toContain('loop rejected');
+    await page.evaluate(() => window.scrollTo(0, 0));
+    await mkdir(join(process.cwd(), 'docs'), { recursive: true });
+    await page.screenshot({ path: SCREENSHOT_DOC });
+  });
+
   it('shows the fleet with a score sparkline per robot', async () => {
     await page.goto(`${base}/#/fleet`);
     await page.waitForSelector('table.fleet-table tbody tr');
-    const robots = new Set(runs.map((r) => r.robot));
+    const robots = new Set([...runs, analysed].map((r) => r.robot));
     expect(await page.$$eval('table.fleet-table tbody tr', (trs) => trs.length)).toBe(robots.size);
     const paths = await page.$$eval('svg.sparkline path', (ps) => ps.map((p) => p.getAttribute('d') ?? ''));
     expect(paths.length).toBe(robots.size);

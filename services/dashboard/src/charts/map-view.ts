@@ -127,6 +127,7 @@ export function createMapView(report: Report, cursor: TimeCursor, height = 420):
   /** Draw a label at the first of a few offsets where it overlaps no earlier label; leave it out otherwise. */
   function placeLabel(ctx: CanvasRenderingContext2D, placed: [number, number, number, number][], text: string, x: number, y: number): void {
     const tw = ctx.measureText(text).width;
+    if (x + tw > w - 4) x = Math.max(4, x - 16 - tw); // flip to the left of the anchor near the right edge
     for (const dy of [0, 16, -16, 32, -32]) {
       const box: [number, number, number, number] = [x, y + dy - 14, x + tw, y + dy];
       if (placed.some((b) => box[0] < b[2] && box[2] > b[0] && box[1] < b[3] && box[3] > b[1])) continue;
