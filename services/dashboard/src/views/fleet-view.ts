@@ -4,11 +4,21 @@ import { h } from '../dom.ts';
 import { fmtTimestamp } from '../format.ts';
 import { severityBadge, sparkline, verdictBadge } from './badges.ts';
 
+/**
+ * Latest score against the mean of the earlier ones (oldest first): more than 5 points up or down counts as a
+ * change. One dip in the middle of good runs does not make a robot "worsening" if its latest run is fine again.
+ */
+export function scoreTrend(scores: readonly number[]): 'improving' | 'worsening' | 'steady' | 'none' {
+  if (scores.length < 2) return 'none';
+  const earlier = scores.slice(0, -1);
+  const delta = scores[scores.length - 1]! - earlier.reduce((a, b) => a + b, 0) / earlier.length;
+  return delta > 5 ? 'improving' : delta < -5 ? 'worsening' : 'steady';
+}
+
 function robotRow(r: RobotSummary, open: (hash: string) => void): HTMLTableRowElement {
   const latest = r.latest_run;
   const scores = r.recent_scores;
-  const trend = scores.length >= 2 ? scores[scores.length - 1]! - scores[0]! : null;
-  const trendText = trend === null ? '' : trend > 2 ? '↗ improving' : trend < -2 ? '↘ worsening' : '→ steady';
+  const trendText = { improving: '↗ improving', worsening: '↘ worsening', steady: '→ steady', none: '' }[scoreTrend(scores)];
   const tr = h(
     'tr',
     { 'data-robot': r.robot_id },

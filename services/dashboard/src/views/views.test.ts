@@ -1,6 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { buildFixtureReport } from '../../dev/fixture-report.ts';
 import { filterFromParams } from './queue-view.ts';
+import { scoreTrend } from './fleet-view.ts';
 import { createDraft, draftToInput } from './review-draft.ts';
 import { labelFor, plotPlan } from './run-plots.ts';
 
@@ -67,5 +68,14 @@ describe('plot plan', () => {
   it('labels unknown series from their key without the unit suffix', () => {
     expect(labelFor('imu_gyro_z_rad_s')).toBe('IMU gyro z');
     expect(labelFor('wheel_slip_pct')).toBe('Wheel slip');
+  });
+});
+
+describe('fleet score trend', () => {
+  it('compares the latest score with the mean of the earlier ones, 5-point dead band', () => {
+    expect(scoreTrend([100, 60, 95])).toBe('improving'); // mean of earlier 80
+    expect(scoreTrend([100, 100, 90])).toBe('worsening');
+    expect(scoreTrend([80, 84])).toBe('steady');
+    expect(scoreTrend([70])).toBe('none');
   });
 });
