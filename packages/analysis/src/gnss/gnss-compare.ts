@@ -4,21 +4,9 @@ import { geodesy, pose, PoseInterpolator, quat, type UmeyamaOptions } from '@plu
 import type { InertialFinding } from '../estimators/types.ts';
 import { gateFixes, type FixGating } from './fix-gating.ts';
 import { robustAlign, type Alignment } from './robust-align.ts';
+import type { FixTrack } from './fix-track.ts';
 
-/** Good fixes with the odometry antenna track at the same instants. Times epoch seconds, positions metres. */
-export interface FixTrack {
-  t: Float64Array;
-  /** ENU of the fix at the origin (first good fix). */
-  e: Float64Array;
-  n: Float64Array;
-  u: Float64Array;
-  /** 1-sigma horizontal accuracy reported with the fix, metres (NaN when unknown). */
-  hacc: Float64Array;
-  /** Antenna position from odometry, odometry world frame. */
-  ox: Float64Array;
-  oy: Float64Array;
-  oz: Float64Array;
-}
+export type { FixTrack } from './fix-track.ts';
 
 export interface GnssComparison {
   ok: true;

@@ -1,5 +1,5 @@
 import { umeyama, type Mat3, type UmeyamaOptions, type Vec3 } from '@plumbline/geometry';
-import type { FixTrack } from './gnss-compare.ts';
+import type { FixTrack } from './fix-track.ts';
 
 export interface Alignment {
   /** ENU ≈ scale·r·odometry + t */
