@@ -1,5 +1,5 @@
 import { createWriteStream } from 'node:fs';
-import { mkdir } from 'node:fs/promises';
+import { mkdir, writeFile } from 'node:fs/promises';
 import { pipeline } from 'node:stream/promises';
 import { dirname, join } from 'node:path';
 import { BundleError } from './errors.ts';
@@ -49,10 +49,15 @@ export class Extractor {
   private entries = 0;
   private totalBytes = 0;
 
+  /**
+   * @param keep which files to write; the others are checked and counted like the rest but left as empty
+   *   placeholders (enough for an upload-time check of the manifest and of which files exist).
+   */
   constructor(
     readonly archive: string,
     readonly root: string,
     readonly limits: ResolvedLimits,
+    readonly keep: (name: string) => boolean = () => true,
   ) {}
 
   get entryNames(): string[] {
@@ -82,6 +87,9 @@ export class Extractor {
    * entry header and, when `compressedBytes` is given (zip), the per-entry ratio cap.
    */
   async file(name: string, data: AsyncIterable<Uint8Array>, declaredBytes: number, compressedBytes?: number): Promise<void> {
+    // subscribe before the first await: an entry stream may fail while directories are being created
+    const iterator = data[Symbol.asyncIterator]();
+    const source: AsyncIterable<Uint8Array> = { [Symbol.asyncIterator]: () => iterator };
     const path = join(this.root, name);
     await mkdir(dirname(path), { recursive: true }).catch((err: unknown) => this.fsError(name, err));
     let written = 0;
@@ -96,9 +104,13 @@ export class Extractor {
         throw this.ratioError(name, compressedBytes);
       }
     };
+    if (!this.keep(name)) {
+      for await (const chunk of source) count(chunk.length);
+      return this.placeholder(name);
+    }
     try {
       await pipeline(
-        data,
+        source,
         async function* (source: AsyncIterable<Uint8Array>) {
           for await (const chunk of source) {
             count(chunk.length);
@@ -111,6 +123,13 @@ export class Extractor {
       if (err instanceof BundleError) throw err;
       this.fsError(name, err);
     }
+  }
+
+  /** An empty file standing for an entry that was checked but not written. */
+  async placeholder(name: string): Promise<void> {
+    const path = join(this.root, name);
+    await mkdir(dirname(path), { recursive: true }).catch((err: unknown) => this.fsError(name, err));
+    await writeFile(path, '', { flag: 'wx' }).catch((err: unknown) => this.fsError(name, err));
   }
 
   ratioError(name: string, compressedBytes: number): BundleError {

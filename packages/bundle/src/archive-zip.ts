@@ -1,4 +1,4 @@
-import type { Readable } from 'node:stream';
+import { PassThrough, type Readable } from 'node:stream';
 import yauzl from 'yauzl';
 import type { Extractor } from './archive-extractor.ts';
 import { BundleError, isSystemError } from './errors.ts';
@@ -87,9 +87,16 @@ async function extractEntry(zip: yauzl.ZipFile, entry: yauzl.Entry, ex: Extracto
   if (e.uncompressedSize > limits.ratioFloorBytes && e.uncompressedSize > limits.maxRatio * e.compressedSize) {
     throw ex.ratioError(name, e.compressedSize);
   }
+  if (!ex.keep(name)) return ex.placeholder(name);
   const stream = await openEntry(zip, entry);
+  // Inflate errors may be emitted before the copy has subscribed (it first creates directories) or after it has
+  // let go; routing them into a PassThrough that remembers its error covers both without an uncaught exception.
+  const body = new PassThrough();
+  body.on('error', () => {}); // the error stays in body.errored; the copy's pipeline reads it from there
+  stream.on('error', (err: Error) => body.destroy(err));
+  stream.pipe(body);
   try {
-    await ex.file(name, stream, e.uncompressedSize, e.compressedSize);
+    await ex.file(name, body, e.uncompressedSize, e.compressedSize);
   } finally {
     stream.destroy();
   }

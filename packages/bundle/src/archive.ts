@@ -12,6 +12,14 @@ import { BundleError, isSystemError } from './errors.ts';
 
 export type BundleKind = 'directory' | 'tar' | 'tar.gz' | 'zip';
 
+/**
+ * `all` writes every file; `manifest-only` writes run.json and leaves the other files as empty placeholders after
+ * checking them against every limit (tar data is still streamed through; zip data is judged by its headers alone).
+ */
+export type ExtractMode = 'all' | 'manifest-only';
+
+const isManifestEntry = (name: string): boolean => /^([^/]+\/)?run\.json$/.test(name);
+
 export interface OpenedBundle {
   /** Directory holding run.json and the data files. */
   root: string;
@@ -27,8 +35,9 @@ export interface OpenedBundle {
  * extracted into a fresh temporary directory under the limits (see ArchiveLimits). Links, devices, paths leaving
  * the root and duplicate names are rejected with the entry name; nested archives are kept as plain files.
  * When the archive holds a single top-level directory and no run.json at its root, that directory is the root.
+ * `mode` 'manifest-only' is the cheap variant for upload-time checks (see ExtractMode).
  */
-export async function openBundle(path: string, limits: ArchiveLimits = {}): Promise<OpenedBundle> {
+export async function openBundle(path: string, limits: ArchiveLimits = {}, mode: ExtractMode = 'all'): Promise<OpenedBundle> {
   const info = await stat(path).catch((err: unknown) => {
     throw new BundleError('BUNDLE_NOT_FOUND', `cannot open bundle: ${(err as Error).message}`, { file: path, cause: err });
   });
@@ -38,7 +47,7 @@ export async function openBundle(path: string, limits: ArchiveLimits = {}): Prom
   const temp = await mkdtemp(join(resolved.tmpDir ?? tmpdir(), 'plumbline-bundle-'));
   const cleanup = () => rm(temp, { recursive: true, force: true });
   try {
-    const extractor = new Extractor(basename(path), temp, resolved);
+    const extractor = new Extractor(basename(path), temp, resolved, mode === 'all' ? undefined : isManifestEntry);
     if (kind === 'zip') await extractZip(path, extractor);
     else await extractTar(path, kind === 'tar.gz', info.size, extractor, resolved);
     return { root: await findRoot(temp), kind, entries: extractor.entryNames, cleanup };

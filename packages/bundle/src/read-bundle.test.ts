@@ -81,6 +81,24 @@ describe('inspectBundle', () => {
     expect(s.manifest.robot_id).toBe('kestrel-01');
     expect(s.entries.sort()).toEqual(Object.keys(files).sort());
   });
+  it('does not inflate zip data: a damaged imu.csv passes inspection and fails the full read', async () => {
+    const zip = Buffer.from(await zipBuffer(filesAsZipEntries(bundleFiles())));
+    const nameAt = zip.indexOf('imu.csv'); // file name in the local header (30 fixed bytes before it)
+    const extraLen = zip.readUInt16LE(nameAt - 30 + 28);
+    const dataAt = nameAt + 'imu.csv'.length + extraLen;
+    for (let i = dataAt + 50; i < dataAt + 150; i++) zip[i] = zip[i]! ^ 0xff;
+    const dir = await tempDir();
+    await writeFile(join(dir, 'run.zip'), zip);
+    expect((await inspectBundle(join(dir, 'run.zip'))).manifest.run_id).toBe('kestrel-01-20261130-0600');
+    await expect(readBundle(join(dir, 'run.zip'))).rejects.toMatchObject({ code: 'ARCHIVE_CORRUPT', file: 'run.zip' });
+  });
+  it('still enforces the limits on data it does not keep', async () => {
+    const dir = await tempDir();
+    const bomb = [...filesAsTarEntries(bundleFiles()), { name: 'zeros.bin', data: new Uint8Array(8 * 1024 * 1024) }];
+    await writeFile(join(dir, 'run.tgz'), await tarBuffer(bomb, true));
+    // the bundle's CSV text compresses about 5:1, the zeros about 1000:1; the whole stream lands near 150:1
+    await expect(inspectBundle(join(dir, 'run.tgz'), { limits: { maxRatio: 50 } })).rejects.toMatchObject({ code: 'ARCHIVE_RATIO' });
+  });
   it('rejects a manifest naming a file the archive lacks', async () => {
     const files = bundleFiles();
     delete files['gnss.nmea'];

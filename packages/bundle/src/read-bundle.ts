@@ -81,9 +81,12 @@ export interface BundleSummary {
   entries: string[];
 }
 
-/** Cheap check at upload time: unpacks under the limits and validates run.json and the presence of its files. */
+/**
+ * Cheap check at upload time: walks the archive under every limit, writes only run.json, validates it and checks
+ * that the files it names are present. Data files are not parsed (readBundle does that).
+ */
 export async function inspectBundle(path: string, options: Pick<ReadBundleOptions, 'limits'> = {}): Promise<BundleSummary> {
-  const opened = await openBundle(path, options.limits);
+  const opened = await openBundle(path, options.limits, 'manifest-only');
   try {
     const manifest = await readManifest(opened.root);
     return { kind: opened.kind, manifest, entries: opened.entries };
