@@ -5,6 +5,7 @@ import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { afterAll, afterEach, beforeAll, describe, expect, it, vi } from 'vitest';
 import { main } from '../services/cli/src/main.ts';
+import { simulateBundle } from './service-flow.ts';
 
 const BIN = fileURLToPath(new URL('../services/cli/bin/plumbline.js', import.meta.url));
 let dataDir: string;
@@ -76,5 +77,25 @@ describe('plumbline token', () => {
     expect((await plumbline(['token', 'list'])).out).toMatch(/night-shift\t-\trevoked /);
     expect((await plumbline(['token', 'revoke', info.id])).code).toBe(65);
     expect((await plumbline(['token', 'create', '--role', 'robot', '--name', 'x'])).code).toBe(64);
+  });
+});
+
+describe('plumbline analyze', () => {
+  it('prints the report and exits by verdict (0 sound, 1 doubtful, 2 unfit); 65 for a non-bundle', async () => {
+    const b = await simulateBundle('cli-analyze');
+    try {
+      const json = await plumbline(['analyze', b.path, '--json']);
+      const report = JSON.parse(json.out) as { verdict: 'sound' | 'doubtful' | 'unfit'; score: number; run: { run_id: string } };
+      expect(report.run.run_id).toBe('cli-analyze');
+      expect(json.code).toBe({ sound: 0, doubtful: 1, unfit: 2 }[report.verdict]);
+      const human = await plumbline(['analyze', b.path]);
+      expect(human.code).toBe(json.code);
+      expect(human.out).toContain(`verdict: ${report.verdict.toUpperCase()}   score: ${report.score.toFixed(0)}/100`);
+      const bad = await plumbline(['analyze', fileURLToPath(import.meta.url)]);
+      expect(bad.code).toBe(65);
+      expect(bad.err).toContain('invalid bundle');
+    } finally {
+      await b.cleanup();
+    }
   });
 });
