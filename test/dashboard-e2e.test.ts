@@ -304,10 +304,23 @@ describe.skipIf(!haveBrowser)('dashboard end to end', () => {
     await page.screenshot({ path: SCREENSHOT_DOC });
   });
 
+  it('shows a rejected upload without a report, with its reason, and still takes a review', async () => {
+    const created = t.store.runs.create({ robot_id: 'wren-01', run_id: 'r-broken', site: 'harbourside-depot', started_at: '2026-11-30T04:00:00Z', sha256: 'e'.repeat(64), size_bytes: 10, status: 'rejected', status_reason: 'imu.csv line 7 column 3: not a number' });
+    await page.goto(`${base}/#/runs/${created.run.id}`);
+    await page.waitForSelector('.review-form');
+    expect(await page.textContent('.run')).toContain('No report yet (status rejected: imu.csv line 7 column 3: not a number)');
+    expect(await page.$('.map-stage')).toBeNull();
+    await page.keyboard.press('n');
+    await page.keyboard.press('s');
+    await page.waitForFunction(() => document.querySelector('.save-result')?.textContent?.includes('Saved review'));
+    const res = await fetch(`${base}/api/v1/runs/${created.run.id}/reviews`, { headers: { authorization: `Bearer ${t.tokens.lead}` } });
+    expect(Review.array().parse(await res.json()).map((r) => r.decision)).toEqual(['rerun']);
+  });
+
   it('shows the fleet with a score sparkline per robot', async () => {
     await page.goto(`${base}/#/fleet`);
     await page.waitForSelector('table.fleet-table tbody tr');
-    const robots = new Set([...runs, analysed].map((r) => r.robot));
+    const robots = new Set([...runs, analysed].map((r) => r.robot)); // wren-01's rejected run adds no robot
     expect(await page.$$eval('table.fleet-table tbody tr', (trs) => trs.length)).toBe(robots.size);
     const paths = await page.$$eval('svg.sparkline path', (ps) => ps.map((p) => p.getAttribute('d') ?? ''));
     expect(paths.length).toBe(robots.size);
