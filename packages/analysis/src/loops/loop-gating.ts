@@ -1,19 +1,7 @@
 import { createPoseGraphSolver, graphDim, optimizePoseGraph, type PoseGraph, type PoseGraphSolver } from './pose-graph.ts';
 import { se3Edge, planarEdge } from './pose-graph-edges.ts';
 
-/**
- * χ² gating of loop edges in a pose graph: separates false loop closures from consistent loops.
- *
- * Method: first test every loop against the odometry alone and exclude those beyond the gate; then optimise with
- * the remaining loops under a Huber kernel (threshold √gate) and test each loop's
- * innovation — its residual at the optimum — against the covariance of the loop measurement plus the odometry
- * drift allowed over the path between its ends: χ² = |r_t|²/(σ_loop,t² + (p_t·L)²) + |r_φ|²/(σ_loop,φ² + (p_φ·L)²),
- * with L the odometry path length between the loop ends and p_t, p_φ drift rates (drift is systematic, so it grows
- * with L, not √L). A loop with χ² above its gate (the 1 − α point of χ² with the edge's degrees of freedom: 6 in
- * SE(3), 3 planar, fewer for translation-only loops) is excluded, the worst first, and the graph is re-solved from the odometry
- * until no remaining loop fails (the switching/"gating" scheme of E. Olson, "Recognizing places using spectrally
- * clustered local matches", RAS 2009, in its simple χ²-test form; Grisetti et al. 2010 for the graph).
- */
+/** Input of `gateLoops`. */
 export interface GatingInput {
   graph: PoseGraph;
   /** Edge indices of loop edges (the rest are odometry). */
@@ -55,6 +43,19 @@ function innovationChi2(g: PoseGraph, e: number, input: GatingInput): number {
   return ct / varT + cr / varR;
 }
 
+/**
+ * χ² gating of loop edges in a pose graph: separates false loop closures from consistent loops.
+ *
+ * Method: first test every loop against the odometry alone and exclude those beyond the gate; then optimise with
+ * the remaining loops under a Huber kernel (threshold √gate) and test each loop's
+ * innovation — its residual at the optimum — against the covariance of the loop measurement plus the odometry
+ * drift allowed over the path between its ends: χ² = |r_t|²/(σ_loop,t² + (p_t·L)²) + |r_φ|²/(σ_loop,φ² + (p_φ·L)²),
+ * with L the odometry path length between the loop ends and p_t, p_φ drift rates (drift is systematic, so it grows
+ * with L, not √L). A loop with χ² above its gate (the 1 − α point of χ² with the edge's degrees of freedom: 6 in
+ * SE(3), 3 planar, fewer for translation-only loops) is excluded, the worst first, and the graph is re-solved from the odometry
+ * until no remaining loop fails (the switching/"gating" scheme of E. Olson, "Recognizing places using spectrally
+ * clustered local matches", RAS 2009, in its simple χ²-test form; Grisetti et al. 2010 for the graph).
+ */
 export function gateLoops(input: GatingInput): GatingResult {
   const { graph: g, loopEdges, gates } = input;
   const maxRounds = input.maxRounds ?? 12;
