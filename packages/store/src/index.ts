@@ -11,3 +11,6 @@ export { createWebhookRepository, deliveryBackoffMs } from './webhook-repository
 export { createUploadRepository } from './upload-repository.ts';
 export { createRobotRepository } from './robot-repository.ts';
 export { createBlobStore } from './blob-store.ts';
+export { createMaintenanceRepository, type MaintenanceRepository, type StoredRunEstimates, type FindingsSaved } from './maintenance-repository.ts';
+export { createPolicyRepository, PolicyExistsError, type PolicyRepository } from './policy-repository.ts';
+export { createFeedbackRepository, type FeedbackRepository } from './feedback-repository.ts';

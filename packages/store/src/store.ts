@@ -7,6 +7,9 @@ import { createTokenRepository } from './token-repository.ts';
 import type { Db, Store, StoreStats } from './types.ts';
 import { createUploadRepository } from './upload-repository.ts';
 import { createWebhookRepository } from './webhook-repository.ts';
+import { createMaintenanceRepository } from './maintenance-repository.ts';
+import { createPolicyRepository } from './policy-repository.ts';
+import { createFeedbackRepository } from './feedback-repository.ts';
 
 function tally(rows: { k: string | null; n: number }[]): Record<string, number> {
   const out: Record<string, number> = {};
@@ -31,6 +34,9 @@ export function createStore(db: Db): Store {
     webhooks: createWebhookRepository(db),
     uploads: createUploadRepository(db),
     robots: createRobotRepository(db),
+    maintenance: createMaintenanceRepository(db),
+    policies: createPolicyRepository(db),
+    feedback: createFeedbackRepository(db),
     stats(): StoreStats {
       const runsByStatus = tally(byStatus.all() as { k: string; n: number }[]);
       return {

@@ -27,6 +27,9 @@ import type {
   WebhookInfo,
 } from '@plumbline/contracts';
 import type BetterSqlite3 from 'better-sqlite3';
+import type { MaintenanceRepository } from './maintenance-repository.ts';
+import type { PolicyRepository } from './policy-repository.ts';
+import type { FeedbackRepository } from './feedback-repository.ts';
 
 /** The SQLite handle returned by `openDatabase`; pass it to `createStore` and `createEmbeddedQueue`. */
 export type Db = BetterSqlite3.Database;
@@ -253,6 +256,10 @@ export interface Store {
   webhooks: WebhookRepository;
   uploads: UploadRepository;
   robots: RobotRepository;
+  /** Fleet view (migration 0002): maintenance findings, versioned policies, review feedback. */
+  maintenance: MaintenanceRepository;
+  policies: PolicyRepository;
+  feedback: FeedbackRepository;
   /** Counts for /metrics. */
   stats(): StoreStats;
   /** True when the database answers a trivial query (for /readyz). */

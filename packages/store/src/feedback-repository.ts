@@ -1,0 +1,62 @@
+import type { FlagDisposition, FlagKind, FlagReview, ReviewedFlag, Verdict, VerdictChange } from '@plumbline/contracts';
+import type { Db } from './types.ts';
+
+export interface FeedbackRepository {
+  /**
+   * Every flag disposition of the latest review of each run, joined with the flag's kind and measured value in the
+   * run's current report and the run's site. Dispositions of flags no longer in the current report are left out.
+   */
+  reviewedFlags(opts?: { site?: string }): ReviewedFlag[];
+  /**
+   * Runs whose current report has a different verdict than the report before it, newest first; with `policyHash`,
+   * only runs whose current report was made under that policy.
+   */
+  verdictChanges(opts?: { policyHash?: string; limit?: number }): VerdictChange[];
+}
+
+/** Review statistics and re-analysis outcomes, read across runs (no writes). */
+export function createFeedbackRepository(db: Db): FeedbackRepository {
+  const latestReviews = db.prepare(
+    `SELECT rv.run, rv.flags_json, r.site FROM reviews rv JOIN runs r ON r.id = rv.run
+     WHERE rv.id = (SELECT max(id) FROM reviews WHERE run = rv.run) AND (? IS NULL OR r.site = ?)`,
+  );
+  const flagsOf = db.prepare('SELECT flag_id, kind, value FROM flags WHERE run = ?');
+  const changes = db.prepare(
+    `SELECT r.id AS run, r.robot_id, r.run_id,
+            cur.verdict AS after_verdict, cur.score AS after_score, cur.policy_hash AS after_hash,
+            prev.verdict AS before_verdict, prev.score AS before_score, prev.policy_hash AS before_hash
+     FROM runs r
+     JOIN reports cur ON cur.run = r.id AND cur.is_current = 1
+     JOIN reports prev ON prev.id = (SELECT max(id) FROM reports WHERE run = r.id AND id < cur.id)
+     WHERE cur.verdict <> prev.verdict AND (? IS NULL OR cur.policy_hash = ?)
+     ORDER BY cur.id DESC LIMIT ?`,
+  );
+
+  return {
+    reviewedFlags(opts = {}) {
+      const site = opts.site ?? null;
+      const out: ReviewedFlag[] = [];
+      for (const rv of latestReviews.all(site, site) as { run: string; flags_json: string; site: string }[]) {
+        const dispositions = JSON.parse(rv.flags_json) as FlagReview[];
+        if (dispositions.length === 0) continue;
+        const flags = new Map((flagsOf.all(rv.run) as { flag_id: string; kind: FlagKind; value: number | null }[]).map((f) => [f.flag_id, f]));
+        for (const d of dispositions) {
+          const f = flags.get(d.flag_id);
+          if (f) out.push({ kind: f.kind, site: rv.site, value: f.value, disposition: d.disposition as FlagDisposition });
+        }
+      }
+      return out;
+    },
+    verdictChanges(opts = {}) {
+      const hash = opts.policyHash ?? null;
+      type Row = { run: string; robot_id: string; run_id: string; after_verdict: Verdict; after_score: number; after_hash: string; before_verdict: Verdict; before_score: number; before_hash: string };
+      return (changes.all(hash, hash, opts.limit ?? 500) as Row[]).map((r) => ({
+        run: r.run,
+        robot_id: r.robot_id,
+        run_id: r.run_id,
+        before: { verdict: r.before_verdict, score: r.before_score, policy_hash: r.before_hash },
+        after: { verdict: r.after_verdict, score: r.after_score, policy_hash: r.after_hash },
+      }));
+    },
+  };
+}
