@@ -69,6 +69,7 @@ describe('operations routes', () => {
     expect(r.headers['content-type']).toMatch(/^text\/plain; version=0\.0\.4/);
     expect(r.body).toMatch(/plumbline_http_request_duration_seconds_bucket\{method="GET",route="\/healthz",status="200",le="\+Inf"\} [1-9]/);
     expect(r.body).toMatch(/plumbline_queue_jobs\{state="waiting"\} 0/);
+    expect(r.body).toMatch(/^plumbline_queue_depth 0$/m);
   });
 });
 

@@ -85,17 +85,17 @@ export class Histogram implements Metric {
 
 export class MetricsRegistry {
   private readonly metrics: Metric[] = [];
-  private readonly asyncGauges: Array<() => Promise<CallbackGauge>> = [];
+  private readonly asyncGauges: Array<() => Promise<CallbackGauge[]>> = [];
   register<M extends Metric>(m: M): M {
     this.metrics.push(m);
     return m;
   }
-  /** A gauge whose values need an async read (the queue counts). */
-  registerAsync(make: () => Promise<CallbackGauge>): void {
+  /** Gauges whose values need an async read (the queue counts), made at scrape time. */
+  registerAsync(make: () => Promise<CallbackGauge[]>): void {
     this.asyncGauges.push(make);
   }
   async render(): Promise<string> {
-    const extra = await Promise.all(this.asyncGauges.map((f) => f()));
+    const extra = (await Promise.all(this.asyncGauges.map((f) => f()))).flat();
     return `${[...this.metrics, ...extra].map((m) => m.render()).join('\n')}\n`;
   }
 }

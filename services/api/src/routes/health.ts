@@ -25,9 +25,12 @@ export function registerHealthRoutes(ctx: ApiContext): void {
   reg.register(new CallbackGauge('plumbline_uploads_open', 'Open resumable upload sessions', () => [[{}, store.stats().open_uploads]]));
   reg.registerAsync(async () => {
     const c = await queue.counts();
-    return new CallbackGauge('plumbline_queue_jobs', 'Analysis jobs by queue state (queue depth = waiting + delayed)', () =>
-      Object.entries(c).map(([state, n]): [Record<string, string>, number] => [{ state }, n]),
-    );
+    return [
+      new CallbackGauge('plumbline_queue_depth', 'Analysis jobs waiting to run (waiting + delayed)', () => [[{}, c.waiting + c.delayed]]),
+      new CallbackGauge('plumbline_queue_jobs', 'Analysis jobs by queue state', () =>
+        Object.entries(c).map(([state, n]): [Record<string, string>, number] => [{ state }, n]),
+      ),
+    ];
   });
 
   defineRoute(

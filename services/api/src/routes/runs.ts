@@ -65,6 +65,7 @@ export function registerRunRoutes(ctx: ApiContext): void {
       const blob = await blobs.writeStream(await bundleSource(req), { maxBytes: ctx.config.maxUploadBytes });
       ctx.metrics.uploadBytes.inc({ kind: 'whole' }, blob.sizeBytes);
       const result = await ingestBlob(ctx.deps, principal, blob);
+      req.log.info({ runId: result.run.id, created: result.created, sizeBytes: blob.sizeBytes }, 'bundle stored');
       reply.code(result.created ? 201 : 200);
       return result;
     },

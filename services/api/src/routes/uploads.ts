@@ -95,7 +95,7 @@ export function registerUploadRoutes(ctx: ApiContext): void {
   defineRoute(
     ctx,
     { method: 'POST', url: '/api/v1/uploads/:id/finish', operationId: 'finishUpload', summary: 'Check size and SHA-256, then ingest the bundle as a run', tag: 'uploads', auth: UPLOADERS, params: IdParams, responses: { 201: Finished, 200: Finished } },
-    async (_req, { params, principal }, reply) => {
+    async (req, { params, principal }, reply) => {
       const s = ownSession(principal, params.id);
       if (s.state === 'complete' && s.run) {
         const run = store.runs.get(s.run);
@@ -121,6 +121,7 @@ export function registerUploadRoutes(ctx: ApiContext): void {
       }
       await blobs.removeTemp(s.temp_path);
       store.uploads.complete(s.id, result.run.id);
+      req.log.info({ runId: result.run.id, created: result.created, uploadId: s.id }, 'upload finished');
       reply.code(result.created ? 201 : 200);
       return result;
     },
