@@ -43,9 +43,8 @@ export class ByteNumberParser {
     // integer and fraction parts kept apart too, for long fixed-point inputs such as nanosecond timestamps
     let intPart = 0;
     let intExact = true;
-    let frac = 0;
-    let fracDigits = 0;
-    let fracExact = true;
+    let fracStart = -1;
+    let fracEnd = -1;
     let hasExp = false;
     while (c >= 48 && c <= 57) {
       if (mant <= MANT_GUARD) mant = mant * 10 + (c - 48);
@@ -58,20 +57,18 @@ export class ByteNumberParser {
       intPart = mant;
       intExact = exact;
       i++;
+      fracStart = i;
       c = i < end ? buf[i]! : -1;
       while (c >= 48 && c <= 57) {
         if (mant <= MANT_GUARD) {
           mant = mant * 10 + (c - 48);
           exp10--;
         } else exact = false;
-        if (frac <= MANT_GUARD) {
-          frac = frac * 10 + (c - 48);
-          fracDigits++;
-        } else fracExact = false;
         digits++;
         i++;
         c = i < end ? buf[i]! : -1;
       }
+      fracEnd = i;
     }
     if (digits === 0) return this.special(buf, tokenStart, i, end, neg);
     if (c === 101 || c === 69) {
@@ -101,7 +98,7 @@ export class ByteNumberParser {
     if (exact && exp10 >= -22 && exp10 <= 22 && mant <= MANT_LIMIT) {
       v = exp10 >= 0 ? mant * POW10[exp10]! : mant / POW10[-exp10]!;
       if (neg) v = -v;
-    } else if (!hasExp && fracDigits > 0 && intExact && fracExact && fracDigits <= 22 && (v = sumParts(intPart, frac, fracDigits)) === v) {
+    } else if (!hasExp && intExact && fracEnd - fracStart <= 15 && fracEnd > fracStart && (v = sumParts(intPart, fractionDigits(buf, fracStart, fracEnd), fracEnd - fracStart)) === v) {
       if (neg) v = -v;
     } else {
       v = Number(latin1(buf, tokenStart, tokenEnd));
@@ -150,6 +147,13 @@ function ulpOf(x: number): number {
   F64[0] = x;
   const e = (U32[1]! >>> 20) & 0x7ff;
   return e === 0 ? 2 ** -1074 : 2 ** (e - 1075);
+}
+
+/** The fraction digits [start, end) as an integer (at most 15 digits, so exact). */
+function fractionDigits(buf: Uint8Array, start: number, end: number): number {
+  let f = 0;
+  for (let i = start; i < end; i++) f = f * 10 + (buf[i]! - 48);
+  return f;
 }
 
 /**
