@@ -56,30 +56,26 @@ export function buildFixTrack(
   geodesy.geodeticToEnu(allE, allN, allU, gnss.lat, gnss.lon, gnss.alt, enuOrigin);
   const interp = new PoseInterpolator(odometry);
   const p = pose.create(), w = new Float64Array(3);
-  const idx: number[] = [];
-  const ant: number[] = [];
+  const cap = gnss.n, col = () => new Float64Array(cap);
+  const full: FixTrack = { t: col(), e: col(), n: col(), u: col(), hacc: col(), ox: col(), oy: col(), oz: col() };
+  let k = 0;
   for (let i = 0; i < gnss.n; i++) {
     if (!good[i] || !interp.at(p, gnss.t[i]!)) continue;
     quat.rotateVec3(w, p.q, antennaBody);
-    idx.push(i);
-    ant.push(p.t[0]! + w[0]!, p.t[1]! + w[1]!, p.t[2]! + w[2]!);
+    full.t[k] = gnss.t[i]!;
+    full.e[k] = allE[i]!;
+    full.n[k] = allN[i]!;
+    full.u[k] = allU[i]!;
+    full.hacc[k] = gnss.hacc[i]!;
+    full.ox[k] = p.t[0]! + w[0]!;
+    full.oy[k] = p.t[1]! + w[1]!;
+    full.oz[k] = p.t[2]! + w[2]!;
+    k++;
   }
-  const k = idx.length;
   const track: FixTrack = {
-    t: new Float64Array(k), e: new Float64Array(k), n: new Float64Array(k), u: new Float64Array(k), hacc: new Float64Array(k),
-    ox: new Float64Array(k), oy: new Float64Array(k), oz: new Float64Array(k),
+    t: full.t.subarray(0, k), e: full.e.subarray(0, k), n: full.n.subarray(0, k), u: full.u.subarray(0, k),
+    hacc: full.hacc.subarray(0, k), ox: full.ox.subarray(0, k), oy: full.oy.subarray(0, k), oz: full.oz.subarray(0, k),
   };
-  for (let j = 0; j < k; j++) {
-    const i = idx[j]!;
-    track.t[j] = gnss.t[i]!;
-    track.e[j] = allE[i]!;
-    track.n[j] = allN[i]!;
-    track.u[j] = allU[i]!;
-    track.hacc[j] = gnss.hacc[i]!;
-    track.ox[j] = ant[3 * j]!;
-    track.oy[j] = ant[3 * j + 1]!;
-    track.oz[j] = ant[3 * j + 2]!;
-  }
   return { origin, track, allE, allN, allU };
 }
 
