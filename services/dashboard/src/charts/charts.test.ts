@@ -113,6 +113,27 @@ describe('GNSS display alignment', () => {
     expect(r.tx).toBeCloseTo(12, 10);
     expect(r.ty).toBeCloseTo(-5, 10);
   });
+  it('is not tilted by a diverging stretch of fixes', () => {
+    // A 10 × 10 square walked in 40 fixes with small alternating noise; 6 consecutive fixes pushed 4 m sideways.
+    const n = 40;
+    const gx: number[] = [];
+    const gy: number[] = [];
+    for (let i = 0; i < n; i++) {
+      const s = (i / n) * 40;
+      const side = Math.floor(s / 10);
+      const u = s - side * 10;
+      const pt = [[u, 0], [10, u], [10 - u, 10], [0, 10 - u]][side]!;
+      gx.push(pt[0]! + (i % 2 ? 0.02 : -0.02));
+      gy.push(pt[1]! + (i >= 12 && i < 18 ? 4 : 0));
+    }
+    const src = { frame: 'enu', t: gx.map((_, i) => i), x: gx, y: gy, z: gx.map(() => 0), fix: gx.map(() => 4) };
+    const truth = { thetaRad: -0.4, tx: 3, ty: 1, pairs: n };
+    const clean = transformPath({ ...src, y: gy.map((y, i) => (i >= 12 && i < 18 ? y - 4 : y)), frame: 'odometry-world' }, truth);
+    const r = alignForDisplay(src, clean)!;
+    // Tolerance 0.01 rad (0.6°): the ±2 cm noise on a 10 m square allows a few mrad; a single plain fit is off by 5.2° here.
+    expect(Math.abs(r.thetaRad - truth.thetaRad)).toBeLessThan(0.01);
+    expect(r.pairs).toBe(n - 6);
+  });
   it('refuses fewer than three usable fixes (fix quality 0 is unusable)', () => {
     expect(alignForDisplay({ ...g, fix: [4, 0, 4] }, p)).toBeNull();
   });

@@ -59,27 +59,21 @@ export interface Rigid2 {
   pairs: number;
 }
 
-/**
- * Least-squares 2-D rotation + translation taking GNSS fixes onto the odometry path at the same times, so fixes
- * given in ENU can be drawn over a path in its own world frame. Closed form of the rigid case of Umeyama (IEEE TPAMI
- * 13(4), 1991): θ = atan2(Σ gx·py − gy·px, Σ gx·px + gy·py) over centred pairs. Display only — the analysis
- * does its own alignment. Null with fewer than 3 usable fixes or no spread.
- */
-export function alignForDisplay(gnss: Path & { fix: number[] }, path: Path): Rigid2 | null {
+/** One weighted-out rigid fit over the pairs whose `keep` flag is set. */
+function fitRigid(g: Path, p: Path, idx: Int32Array, keep: Uint8Array): Rigid2 | null {
   let n = 0;
   let gmx = 0;
   let gmy = 0;
   let pmx = 0;
   let pmy = 0;
-  const use = (i: number): number => (gnss.fix[i]! > 0 ? indexAtTime(path.t, gnss.t[i]!) : -1);
-  for (let i = 0; i < gnss.t.length; i++) {
-    const k = use(i);
-    if (k < 0) continue;
+  for (let i = 0; i < idx.length; i++) {
+    if (!keep[i]) continue;
+    const k = idx[i]!;
     n++;
-    gmx += gnss.x[i]!;
-    gmy += gnss.y[i]!;
-    pmx += path.x[k]!;
-    pmy += path.y[k]!;
+    gmx += g.x[i]!;
+    gmy += g.y[i]!;
+    pmx += p.x[k]!;
+    pmy += p.y[k]!;
   }
   if (n < 3) return null;
   gmx /= n;
@@ -88,13 +82,13 @@ export function alignForDisplay(gnss: Path & { fix: number[] }, path: Path): Rig
   pmy /= n;
   let dot = 0;
   let cross = 0;
-  for (let i = 0; i < gnss.t.length; i++) {
-    const k = use(i);
-    if (k < 0) continue;
-    const gx = gnss.x[i]! - gmx;
-    const gy = gnss.y[i]! - gmy;
-    const px = path.x[k]! - pmx;
-    const py = path.y[k]! - pmy;
+  for (let i = 0; i < idx.length; i++) {
+    if (!keep[i]) continue;
+    const k = idx[i]!;
+    const gx = g.x[i]! - gmx;
+    const gy = g.y[i]! - gmy;
+    const px = p.x[k]! - pmx;
+    const py = p.y[k]! - pmy;
     dot += gx * px + gy * py;
     cross += gx * py - gy * px;
   }
@@ -103,6 +97,37 @@ export function alignForDisplay(gnss: Path & { fix: number[] }, path: Path): Rig
   const c = Math.cos(th);
   const s = Math.sin(th);
   return { thetaRad: th, tx: pmx - (c * gmx - s * gmy), ty: pmy - (s * gmx + c * gmy), pairs: n };
+}
+
+/**
+ * Least-squares 2-D rotation + translation taking GNSS fixes onto the odometry path at the same times, so fixes
+ * given in ENU can be drawn over a path in its own world frame. Closed form of the rigid case of Umeyama (IEEE TPAMI
+ * 13(4), 1991): θ = atan2(Σ gx·py − gy·px, Σ gx·px + gy·py) over centred pairs. A second fit leaves out pairs whose
+ * residual exceeds 3 × the median (common practice), so a diverging stretch does not tilt the whole overlay.
+ * Display only — the analysis does its own alignment. Null with fewer than 3 usable fixes or no spread.
+ */
+export function alignForDisplay(gnss: Path & { fix: number[] }, path: Path): Rigid2 | null {
+  const idx = new Int32Array(gnss.t.length);
+  const keep = new Uint8Array(gnss.t.length);
+  for (let i = 0; i < idx.length; i++) {
+    idx[i] = gnss.fix[i]! > 0 ? indexAtTime(path.t, gnss.t[i]!) : -1;
+    keep[i] = idx[i]! >= 0 ? 1 : 0;
+  }
+  const first = fitRigid(gnss, path, idx, keep);
+  if (!first) return null;
+  const c = Math.cos(first.thetaRad);
+  const s = Math.sin(first.thetaRad);
+  const res = new Float64Array(idx.length).fill(Number.NaN);
+  for (let i = 0; i < idx.length; i++) {
+    if (!keep[i]) continue;
+    const k = idx[i]!;
+    res[i] = Math.hypot(c * gnss.x[i]! - s * gnss.y[i]! + first.tx - path.x[k]!, s * gnss.x[i]! + c * gnss.y[i]! + first.ty - path.y[k]!);
+  }
+  const sorted = Array.from(res).filter((r) => !Number.isNaN(r)).sort((a, b) => a - b);
+  const median = sorted[Math.floor(sorted.length / 2)] ?? 0;
+  if (median <= 0) return first;
+  for (let i = 0; i < idx.length; i++) if (keep[i] && res[i]! > 3 * median) keep[i] = 0;
+  return fitRigid(gnss, path, idx, keep) ?? first;
 }
 
 /** Apply a planar rigid transform to a path (new arrays; z and t kept). */
