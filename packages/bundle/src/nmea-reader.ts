@@ -61,6 +61,7 @@ export class NmeaParser {
     const stats = this.stats;
     stats.lines = this.splitter.lines;
     stats.extraColumns = [...this.ignored].sort();
+    for (const line of this.store.dropNonIncreasing()) this.bad(line, 1, 'time goes backwards');
     if (stats.badLines > 0 && stats.badLines > this.maxBadFraction * this.sentences) {
       const first = stats.firstErrors[0];
       throw new BundleError('NMEA_TOO_MANY_BAD_LINES', `${stats.badLines} of ${this.sentences} sentences bad${first ? `; first: ${first.message}` : ''}`, {
@@ -69,8 +70,6 @@ export class NmeaParser {
     }
     // no fix at all (indoors all shift) is a run without GNSS; fixes without any date cannot be placed in time
     if (this.store.n > 0 && Number.isNaN(this.dayEpoch)) throw new BundleError('NMEA_NO_DATE', 'GGA sentences but no RMC with a date; cannot form epoch times', { file: this.file });
-    const backwards = this.store.dropNonIncreasing();
-    for (const line of backwards) this.bad(line, 1, 'time goes backwards');
     const columns = this.store.columns();
     stats.samples = columns.n;
     return { columns, stats };
