@@ -232,6 +232,24 @@ describe.skipIf(!haveBrowser)('dashboard end to end', () => {
     const overlays = await inkedPixels(page, '.plot-overlay');
     for (const n of overlays) expect(n).toBeGreaterThan(20);
     await page.mouse.move(2, 2);
+    await page.waitForTimeout(100);
+    expect((await inkedPixels(page, '.plot-overlay')).every((n) => n === 0)).toBe(true);
+
+    // And the other way: hovering a pose on the map puts the cursor into every plot.
+    const onPath = await page.$eval('.map-base', (el) => {
+      const c = el as HTMLCanvasElement;
+      const dpr = c.width / c.clientWidth;
+      const d = c.getContext('2d')!.getImageData(0, 0, c.width, c.height).data;
+      for (let i = 0; i < d.length; i += 4) {
+        if (d[i]! < 40 && d[i + 1]! < 40 && d[i + 2]! < 40) return { x: ((i / 4) % c.width) / dpr, y: Math.floor(i / 4 / c.width) / dpr };
+      }
+      return null;
+    });
+    expect(onPath).not.toBeNull();
+    await page.hover('.map-overlay', { position: { x: onPath!.x + 1, y: onPath!.y + 1 } });
+    await page.waitForTimeout(100);
+    for (const n of await inkedPixels(page, '.plot-overlay')) expect(n).toBeGreaterThan(20);
+    await page.mouse.move(2, 2);
   });
 
   it('saves a review from the keyboard and the API confirms it', async () => {
