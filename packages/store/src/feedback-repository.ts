@@ -8,10 +8,11 @@ export interface FeedbackRepository {
    */
   reviewedFlags(opts?: { site?: string }): ReviewedFlag[];
   /**
-   * Runs whose current report has a different verdict than the report before it, newest first; with `policyHash`,
-   * only runs whose current report was made under that policy.
+   * Runs whose current report has a different verdict than the report before it, newest first; with `policies`,
+   * only runs whose latest analysis was requested under one of those policy names (the run's `policy` column, e.g.
+   * `yard@2`).
    */
-  verdictChanges(opts?: { policyHash?: string; limit?: number }): VerdictChange[];
+  verdictChanges(opts?: { policies?: readonly string[]; limit?: number }): VerdictChange[];
 }
 
 /** Review statistics and re-analysis outcomes, read across runs (no writes). */
@@ -28,7 +29,7 @@ export function createFeedbackRepository(db: Db): FeedbackRepository {
      FROM runs r
      JOIN reports cur ON cur.run = r.id AND cur.is_current = 1
      JOIN reports prev ON prev.id = (SELECT max(id) FROM reports WHERE run = r.id AND id < cur.id)
-     WHERE cur.verdict <> prev.verdict AND (? IS NULL OR cur.policy_hash = ?)
+     WHERE cur.verdict <> prev.verdict AND (? IS NULL OR r.policy IN (SELECT value FROM json_each(?)))
      ORDER BY cur.id DESC LIMIT ?`,
   );
 
@@ -48,9 +49,9 @@ export function createFeedbackRepository(db: Db): FeedbackRepository {
       return out;
     },
     verdictChanges(opts = {}) {
-      const hash = opts.policyHash ?? null;
+      const names = opts.policies ? JSON.stringify(opts.policies) : null;
       type Row = { run: string; robot_id: string; run_id: string; after_verdict: Verdict; after_score: number; after_hash: string; before_verdict: Verdict; before_score: number; before_hash: string };
-      return (changes.all(hash, hash, opts.limit ?? 500) as Row[]).map((r) => ({
+      return (changes.all(names, names, opts.limit ?? 500) as Row[]).map((r) => ({
         run: r.run,
         robot_id: r.robot_id,
         run_id: r.run_id,

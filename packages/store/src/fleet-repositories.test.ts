@@ -92,6 +92,7 @@ describe('feedback repository', () => {
     expect(store.feedback.verdictChanges()).toEqual([
       { run: id, robot_id: 'kestrel-01', run_id: 'shift-1', before: { verdict: 'doubtful', score: 60, policy_hash: 'p'.repeat(16) }, after: { verdict: 'sound', score: 85, policy_hash: 'q'.repeat(16) } },
     ]);
-    expect(store.feedback.verdictChanges({ policyHash: 'p'.repeat(16) })).toEqual([]);
+    expect(store.feedback.verdictChanges({ policies: ['other@1'] })).toHaveLength(0);
+    expect(store.feedback.verdictChanges({ policies: ['yard'] })).toHaveLength(1);
   });
 });

@@ -19,6 +19,9 @@ import { registerRobotRoutes } from './routes/robots.ts';
 import { registerTokenRoutes } from './routes/tokens.ts';
 import { registerWebhookRoutes } from './routes/webhooks.ts';
 import { registerDocRoutes } from './routes/docs.ts';
+import { registerFleetRoutes } from './routes/fleet-routes.ts';
+import { registerPolicyRoutes } from './routes/fleet-policies.ts';
+import { registerMergeGateRoutes } from './routes/merge-gate.ts';
 
 export type { ApiContext, AppDeps, Clock, InspectBundle, TrajectoryCsv } from './context.ts';
 
@@ -67,6 +70,9 @@ export async function buildApp(config: Config, deps: AppDeps): Promise<FastifyIn
   registerRobotRoutes(ctx);
   registerTokenRoutes(ctx);
   registerWebhookRoutes(ctx);
+  registerFleetRoutes(ctx);
+  registerPolicyRoutes(ctx);
+  registerMergeGateRoutes(ctx);
   registerDocRoutes(ctx);
   if (deps.dashboardDir) await registerStatic(app, deps.dashboardDir);
   return Object.assign(app, { metrics });
