@@ -58,8 +58,12 @@ export function analyzeRunDetailed(data: RunData, policy: Policy = DEFAULT_POLIC
   const inertial = analyzeInertial({ manifest, imu, odometry }, { windowS: th.window_s, windowOverlap: th.window_overlap, ...latitudeOf(data.gnss) });
   const gnss: GnssResult | null = data.gnss ? compareWithGnss(manifest, odometry, data.gnss, th) : null;
   const loops = analyzeLoops({ manifest, odometry, dist, loops: data.loops, gnss: gnss && gnss.ok ? gnss : null, thresholds: th });
+  // Scale for the repair: the inertial estimate, else the GNSS alignment's when it was free (monocular odometry).
+  const inertialScale = scaleOf(inertial.estimates.scale);
+  const gnssScale = gnss && gnss.ok && gnss.scaleFree ? scaleOf({ value: gnss.global.scale }) : null;
+  const scaleSource = inertialScale !== null ? 'inertial' : gnssScale !== null ? 'gnss' : null;
   const repaired = repairTrajectory({
-    odometry, keyframes: loops.keyframes, optimised: loops.optimised, scale: scaleOf(inertial.estimates.scale), gravityRotation: null,
+    odometry, keyframes: loops.keyframes, optimised: loops.optimised, scale: inertialScale ?? gnssScale, gravityRotation: null,
   });
   const findings: InertialFinding[] = [...inertial.findings, ...(gnss && gnss.ok ? gnss.findings : []), ...loops.findings];
   const flags = buildFlags(findings, th, clock);
@@ -81,7 +85,7 @@ export function analyzeRunDetailed(data: RunData, policy: Policy = DEFAULT_POLIC
     }),
     flags,
     segments: buildSegments(flags, th.window_s / 2),
-    inertial, gnss, loops, repair: repaired,
+    inertial, gnss, loops, repair: repaired, scaleSource,
   });
   return { report, repaired };
 }

@@ -45,6 +45,8 @@ export interface GravityScaleResult {
   accelBias: Vec3Result;
   /** Scale per alignment row (of the containing window; NaN when unobservable), used for drift refinement. */
   rowScale: Float64Array;
+  /** Window scales and sigmas before the observability cut (NaN only where no solution exists). */
+  rawScale: { t: Float64Array; value: Float64Array; sigma: Float64Array };
 }
 
 const DEG = 180 / Math.PI;
@@ -161,6 +163,11 @@ export function estimateGravityScale(rows: AlignmentRows, worldGravityAligned: b
       : joint === null ? noScalar('deg', 'unobservable: no window with acceleration excitation') : scalar(tiltDeg(joint.g), joint.tiltSigmaDeg, 'deg'),
     accelBias: joint?.biasResult ?? { value: null, sigma: null, unit: 'm/s²', reason: 'unobservable: no window with acceleration excitation' },
     rowScale: scalePerRow(rows, win, scale.value),
+    rawScale: {
+      t: win.t,
+      value: Float64Array.from(second, (r) => (r !== null ? r.s : Number.NaN)),
+      sigma: Float64Array.from(second, (r) => (r !== null ? r.sSigma : Number.NaN)),
+    },
   };
 }
 

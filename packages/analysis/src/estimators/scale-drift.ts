@@ -6,11 +6,12 @@
  * Method: trend by iteratively reweighted least squares (Huber) of a linear-in-distance scale over every alignment
  * row, with the steps as separate levels; cross-checked by the Theil–Sen estimator (median of pairwise slopes) with
  * the distribution-free CI of P. K. Sen, "Estimates of the regression coefficient based on Kendall's tau", JASA 63,
- * 1968, on non-overlapping windows (used alone when the row fit is singular). Steps: the difference of the medians of K windows before and
- * after each window boundary, against the noise of successive differences (MAD); a step is kept when it exceeds 5σ
- * and 1.5 % (common practice), then located at finer resolution than a window by a two-level least-squares fit to
- * the per-triplet scale estimates s_r = λ·(y − βg + M·ba)/|λ|² (weights |λ|²) around the boundary (a change-point
- * search in the manner of E. S. Page, "Continuous inspection schemes", Biometrika 41, 1954).
+ * 1968, on non-overlapping windows (used alone when the row fit is singular).
+ * Steps: the velocity mismatch between the IMU and the odometry (running sum of alignment residuals at a fixed scale)
+ * jumps by (s0/s1 − 1)·v at a scale step and follows the odometry velocity afterwards, even at constant velocity.
+ * A local least-squares step model is scanned along the run (a change-point search in the manner of E. S. Page,
+ * "Continuous inspection schemes", Biometrika 41, 1954), significant candidates of at least 1.5 % are kept (common
+ * practice) and each is located by the best split at keyframe resolution, with Δχ² = 1 bounds.
  */
 import type { AlignmentRows } from './alignment-rows.ts';
 import { madSigma, medianOf, solveSpd } from './small-math.ts';
@@ -35,8 +36,6 @@ export interface ScaleDriftResult {
 }
 
 export interface ScaleDriftOptions {
-  /** Windows each side of a boundary for the step test (default 3). */
-  stepWindows?: number;
   /** Smallest step reported, % (default 1.5). */
   minStepPct?: number;
 }
@@ -60,11 +59,13 @@ export function theilSen(x: ArrayLike<number>, y: ArrayLike<number>): { slope: n
 }
 
 /**
- * `scale`: window scale series (NaN = unobservable); `distanceM`: metric distance at each window centre;
- * rows/rowG/rowBias: alignment rows with the run-level gravity and bias for the step refinement.
+ * `scale`: window scale series (NaN = unobservable); `distanceM`: metric distance at each window centre; `raw`: the
+ * window scales and sigmas before the observability cut (for step detection); rows, gravity and bias: the alignment
+ * rows with the run-level gravity and accelerometer bias (trend and step location).
  */
 export function estimateScaleDrift(
-  scale: WindowSeries, distanceM: Float64Array, windowOverlap: number,
+  scale: WindowSeries, distanceM: Float64Array, windowS: number, windowOverlap: number,
+  raw: { t: Float64Array; value: Float64Array; sigma: Float64Array },
   rows: AlignmentRows, gravity: Float64Array, bias: Float64Array, options: ScaleDriftOptions = {},
 ): ScaleDriftResult {
   const stride = windowOverlap >= 0.5 ? Math.round(1 / (1 - windowOverlap)) : 1;
@@ -75,8 +76,8 @@ export function estimateScaleDrift(
       ys.push(scale.value[w]!);
     }
   }
-  const steps = findSteps(scale, rows, gravity, bias, options);
   const level = medianOf(ys);
+  const steps = findSteps(raw, windowS, rows, gravity, bias, options);
   const thin = thinPoints(xs, ys, 400);
   const ts = theilSen(thin.x, thin.y);
   const ciTs: [number, number] | null = ts && level > 0 ? [(ts.lo * 1e4) / level, (ts.hi * 1e4) / level] : null;
@@ -169,34 +170,39 @@ function thinPoints(x: number[], y: number[], max: number): { x: number[]; y: nu
   return { x: ox, y: oy };
 }
 
-function findSteps(scale: WindowSeries, rows: AlignmentRows, g: Float64Array, ba: Float64Array, options: ScaleDriftOptions): ScaleStep[] {
-  const K = options.stepWindows ?? 3;
+/**
+ * Step candidates from the window scales (all windows with a solution, observable or not, weighted by 1/σ²): at every
+ * window centre, the weighted mean of the windows ending before it against those starting after it (up to 3 windows
+ * each side, so the two groups share no data); z = Δ/√(σ²_before + σ²_after) above 6 and |Δ| ≥ minStepPct are kept,
+ * one per 15 s, then located by `locateStep`.
+ */
+function findSteps(raw: { t: Float64Array; value: Float64Array; sigma: Float64Array }, windowS: number, rows: AlignmentRows, g: Float64Array, ba: Float64Array, options: ScaleDriftOptions): ScaleStep[] {
   const minPct = options.minStepPct ?? 1.5;
-  const idx: number[] = [];
-  for (let w = 0; w < scale.value.length; w++) if (Number.isFinite(scale.value[w]!)) idx.push(w);
-  if (idx.length < 2 * K) return [];
-  const v = idx.map((w) => scale.value[w]!);
-  const diffs = v.slice(1).map((x, i) => x - v[i]!);
-  const noise = Math.max(madSigma(diffs) / Math.SQRT2, 1e-4);
-  const cand: { i: number; d: number }[] = [];
-  for (let i = K; i + K <= v.length; i++) {
-    const before = medianOf(v.slice(i - K, i)), after = medianOf(v.slice(i, i + K));
-    const d = after - before;
-    if (Math.abs(d) > 5 * noise * Math.sqrt(2 / K) && Math.abs(d / before) * 100 >= minPct) cand.push({ i, d });
+  const n = raw.t.length;
+  const cand: { t: number; z: number; before: number; after: number }[] = [];
+  for (let w = 0; w < n; w++) {
+    const tb = raw.t[w]!;
+    let wb = 0, sb = 0, wa = 0, sa = 0;
+    for (let j = 0; j < n; j++) {
+      const v = raw.value[j]!, sg = raw.sigma[j]!;
+      if (!Number.isFinite(v) || !(sg > 0)) continue;
+      const dt = raw.t[j]! - tb;
+      const wt = 1 / (sg * sg);
+      if (dt <= -windowS / 2 && dt >= -3.5 * windowS) [wb, sb] = [wb + wt, sb + wt * v];
+      else if (dt >= windowS / 2 && dt <= 3.5 * windowS) [wa, sa] = [wa + wt, sa + wt * v];
+    }
+    if (wb === 0 || wa === 0) continue;
+    const before = sb / wb, after = sa / wa;
+    const z = Math.abs(after - before) / Math.sqrt(1 / wb + 1 / wa);
+    if (z > 6 && Math.abs(after / before - 1) * 100 >= minPct) cand.push({ t: tb, z, before, after });
   }
-  // Keep local maxima of |d| separated by at least K windows.
+  cand.sort((x, y) => y.z - x.z);
   const steps: ScaleStep[] = [];
-  cand.sort((a, b) => Math.abs(b.d) - Math.abs(a.d));
-  const taken: number[] = [];
   for (const c of cand) {
-    if (taken.some((i) => Math.abs(i - c.i) < 2 * K)) continue;
-    taken.push(c.i);
-    const before = medianOf(v.slice(c.i - K, c.i)), after = medianOf(v.slice(c.i, c.i + K));
-    const ta = scale.t[idx[c.i - 1]!]!, tb = scale.t[idx[c.i]!]!;
-    const span = tb - ta + 10;
-    steps.push(locateStep(rows, g, ba, ta - span / 2, tb + span / 2, before, after));
+    if (steps.some((st) => Math.abs(st.t - c.t) < 15)) continue;
+    steps.push(locateStep(rows, g, ba, c.t - 1.5 * windowS, c.t + 1.5 * windowS, c.before, c.after));
   }
-  return steps.sort((a, b) => a.t - b.t);
+  return steps.sort((x, y) => x.t - y.t);
 }
 
 /**
@@ -223,14 +229,14 @@ function locateStep(rows: AlignmentRows, g: Float64Array, ba: Float64Array, t0: 
     for (let i = 0; i < 3; i++) {
       let e = before * rows.lam[3 * r + i]! + rows.beta[r]! * g[i]! - rows.y[3 * r + i]!;
       for (let j = 0; j < 3; j++) e -= rows.m[9 * r + 3 * i + j]! * ba[j]!;
-      acc[i] = acc[i]! + e;
+      acc[i] = acc[i]! + e / rows.overlap;
       C[3 * k + i] = acc[i]!;
     }
   }
   const sse = new Float64Array(n).fill(Number.POSITIVE_INFINITY);
   const kappa = new Float64Array(n);
   for (let m = 2; m < n - 1; m++) {
-    const fit = fitStepModel(rows, r0, n, C, m, t0, before);
+    const fit = fitStepModel(rows, r0, n, C, m, t0, before, true);
     if (fit !== null) [sse[m], kappa[m]] = fit;
   }
   let best = -1;
@@ -248,8 +254,11 @@ function locateStep(rows: AlignmentRows, g: Float64Array, ba: Float64Array, t0: 
 }
 
 /** Least squares of C_k = c0 + c1·(t_k − t0) + (κ0 + κ·[k ≥ m])·s0·v̄_k over the 3-vector rows; returns [SSE, κ/(1+κ0)]. */
-function fitStepModel(rows: AlignmentRows, r0: number, n: number, C: Float64Array, m: number, t0: number, s0: number): [number, number] | null {
+function fitStepModel(
+  rows: AlignmentRows, r0: number, n: number, C: Float64Array, m: number, t0: number, s0: number, withStep: boolean,
+): [number, number] | null {
   const H = new Float64Array(64), b = new Float64Array(8), J = new Float64Array(8);
+  if (!withStep) H[54] = 1; // κ pinned to 0 (unit diagonal, zero right-hand side)
   let cc = 0;
   for (let k = 0; k < n; k++) {
     const r = r0 + k, dt = rows.t[r]! - t0;
@@ -257,7 +266,7 @@ function fitStepModel(rows: AlignmentRows, r0: number, n: number, C: Float64Arra
       J.fill(0);
       J[i] = 1;
       J[3 + i] = dt;
-      J[6] = k >= m ? s0 * rows.vOdom[3 * r + i]! : 0;
+      J[6] = withStep && k >= m ? s0 * rows.vOdom[3 * r + i]! : 0;
       J[7] = s0 * rows.vOdom[3 * r + i]!;
       const y = C[3 * k + i]!;
       cc += y * y;

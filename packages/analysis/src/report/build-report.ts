@@ -27,6 +27,8 @@ export interface ReportParts {
   gnss: GnssResult | null;
   loops: LoopAnalysis;
   repair: RepairedTrajectory | null;
+  /** Where the applied scale came from. */
+  scaleSource: 'inertial' | 'gnss' | null;
 }
 
 /** Loops table: ids `loop-${n}` in the candidate order (tB, tA, source), times in run seconds. */
@@ -56,6 +58,7 @@ function corrections(p: ReportParts, loops: Loop[]): Corrections {
     notes.push(`pose graph (${p.loops.mode}, ${p.loops.keyframes.length} keyframes) moved poses by up to ${r.maxShift.toPrecision(3)} odometry units (mean ${r.meanShift.toPrecision(3)})`);
   } else notes.push('no pose-graph correction: no usable loop');
   if (r?.scaleApplied == null) notes.push('scale not applied: not estimated for this run');
+  else notes.push(`scale ${r.scaleApplied.toPrecision(6)} applied, from the ${p.scaleSource === 'gnss' ? 'GNSS alignment' : 'inertial alignment'}`);
   if (r?.gravityRotationDeg == null) notes.push('gravity rotation not applied');
   return {
     scale_applied: r?.scaleApplied ?? null,
