@@ -6,6 +6,7 @@ import { createAnalyseRunProcessor, type AnalyseRunDeps, type Analyze } from './
 import { startWebhookDispatcher, type WebhookDispatcher } from './webhooks/dispatcher.ts';
 import { createPolicyResolver } from './policy.ts';
 import { startMaintenance } from './maintenance.ts';
+import { createAfterRecorded, withStoredPolicies } from './fleet-hooks.ts';
 
 export interface WorkerDeps {
   store: Store;
@@ -33,7 +34,7 @@ export interface RunningWorker {
  * in embedded mode, inside the API process (`startEmbeddedWorker`).
  */
 export async function startWorker(config: Pick<Config, 'workerConcurrency' | 'policyFile'>, deps: WorkerDeps): Promise<RunningWorker> {
-  const policyFor = createPolicyResolver(config.policyFile);
+  const policyFor = withStoredPolicies(deps.store, createPolicyResolver(config.policyFile));
   const processor = createAnalyseRunProcessor({
     store: deps.store,
     blobs: deps.blobs,
@@ -42,6 +43,7 @@ export async function startWorker(config: Pick<Config, 'workerConcurrency' | 'po
     logger: deps.logger.child({ component: 'worker' }),
     clock: deps.clock,
     maxAttempts: deps.maxAttempts ?? 5,
+    afterRecorded: createAfterRecorded(deps.store, deps.logger.child({ component: 'fleet' })),
     ...(deps.onJobFinished ? { onJobFinished: deps.onJobFinished } : {}),
   });
   const recover = async (): Promise<number> => {

@@ -17,6 +17,8 @@ export interface AnalyseRunDeps {
   /** Attempts the queue makes before giving up; on the last one a transient failure marks the run `failed`. */
   maxAttempts: number;
   onJobFinished?: (durationS: number, outcome: 'done' | 'rejected' | 'failed' | 'retry' | 'stale') => void;
+  /** Follow-up after a report is recorded (fleet maintenance findings, merge-ready webhook). */
+  afterRecorded?: (runId: string, now: Date) => void;
 }
 
 function isBundleError(e: unknown): e is Error & { code: string; file: string | null; line: number | null; column: number | null } {
@@ -88,6 +90,7 @@ export function createAnalyseRunProcessor(deps: AnalyseRunDeps): JobHandler {
       { event: 'run.analysed', at: now.toISOString(), run: summary, report: { score: report.score, verdict: report.verdict, flags: report.flags.length } },
       now,
     );
+    deps.afterRecorded?.(runId, now);
     log.info({ score: report.score, verdict: report.verdict }, 'analysis recorded');
     finish('done');
   };
