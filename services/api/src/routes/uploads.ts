@@ -108,7 +108,11 @@ export function registerUploadRoutes(ctx: ApiContext): void {
         ? { sha256: s.sha256, sizeBytes: s.size_bytes, path: blobs.pathOf(s.sha256) }
         : await blobs.promote(s.temp_path, s.sha256).catch((e: unknown) => {
             // A digest mismatch cannot be repaired by sending more bytes: the session ends.
-            if ((e as { code?: string }).code === 'BLOB_CHECKSUM_MISMATCH') store.uploads.abort(s.id);
+            if ((e as { code?: string }).code === 'BLOB_CHECKSUM_MISMATCH') {
+              store.uploads.abort(s.id);
+              // the bytes of an aborted session can never be finished: drop them now rather than at the next sweep
+              return blobs.removeTemp(s.temp_path).then(() => Promise.reject(e));
+            }
             throw e;
           });
       let result;
