@@ -148,6 +148,13 @@ describe.skipIf(!haveBrowser)('dashboard end to end', () => {
   });
 
   it('filters the queue by verdict through the address bar and the form', async () => {
+    await page.click('.counts a.verdict-unfit');
+    await page.waitForFunction(() => location.hash.includes('verdict=unfit'));
+    await page.waitForFunction(() => {
+      const rows = [...document.querySelectorAll('table.runs tbody tr')];
+      return rows.length > 0 && rows.every((tr) => tr.textContent?.includes('unfit'));
+    });
+    expect(await page.$$eval('table.runs tbody tr', (trs) => trs.length)).toBe([...runs, analysed].filter((r) => r.verdict === 'unfit').length);
     await page.selectOption('#f-verdict', 'sound');
     await page.waitForFunction(() => location.hash.includes('verdict=sound'));
     await page.waitForFunction(() => {

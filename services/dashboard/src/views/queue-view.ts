@@ -30,19 +30,27 @@ function select(name: FilterKey, label: string, current: string, options: [strin
   return h('label', { class: 'filter' }, h('span', {}, label), sel);
 }
 
-async function loadCounts(ctx: AppContext, base: RunFilter): Promise<HTMLElement> {
+/** Counts of runs awaiting a decision, overall and per verdict; each is a link that applies that filter. */
+async function loadCounts(ctx: AppContext, base: RunFilter, params: URLSearchParams): Promise<HTMLElement> {
   const common: RunFilter = { ...base, reviewed: 'false', limit: '1', sort: 'priority' };
   delete common.verdict;
   delete common.cursor;
   const verdicts = Verdict.options;
   const pages = await Promise.all([ctx.api.listRuns(common), ...verdicts.map((v) => ctx.api.listRuns({ ...common, verdict: v }))]);
-  const cell = (label: HTMLElement | string, n: number | null | undefined, cls: string): HTMLElement =>
-    h('div', { class: `count ${cls}` }, h('span', { class: 'count-n' }, n === null || n === undefined ? '—' : String(n)), h('span', { class: 'count-label' }, label));
+  const href = (verdict: string | null): string => {
+    const next = new URLSearchParams(params);
+    next.delete('reviewed');
+    if (verdict) next.set('verdict', verdict);
+    else next.delete('verdict');
+    return `#/queue${next.toString() ? `?${next.toString()}` : ''}`;
+  };
+  const cell = (label: HTMLElement | string, n: number | null | undefined, cls: string, verdict: string | null): HTMLElement =>
+    h('a', { class: `count ${cls}`, href: href(verdict), title: 'Show these runs' }, h('span', { class: 'count-n' }, n === null || n === undefined ? '—' : String(n)), h('span', { class: 'count-label' }, label));
   return h(
-    'div',
+    'nav',
     { class: 'counts', 'aria-label': 'Runs awaiting a decision' },
-    cell('awaiting decision', pages[0]?.total, 'count-open'),
-    ...verdicts.map((v, i) => cell(h('span', {}, `${VERDICT_STYLE[v].glyph} ${VERDICT_STYLE[v].label}`), pages[i + 1]?.total, `verdict-${v}`)),
+    cell('awaiting decision', pages[0]?.total, 'count-open', null),
+    ...verdicts.map((v, i) => cell(h('span', {}, `${VERDICT_STYLE[v].glyph} ${VERDICT_STYLE[v].label}`), pages[i + 1]?.total, `verdict-${v}`, v)),
   );
 }
 
@@ -72,7 +80,7 @@ function runRow(run: RunSummary, open: (id: string) => void): HTMLTableRowElemen
 export async function renderQueue(ctx: AppContext, params: URLSearchParams): Promise<View> {
   const filter = filterFromParams(params);
   ctx.queueHash = `#/queue${params.toString() ? `?${params.toString()}` : ''}`;
-  const [page, robots, counts] = await Promise.all([ctx.api.listRuns(filter), ctx.api.robots(), loadCounts(ctx, filter)]);
+  const [page, robots, counts] = await Promise.all([ctx.api.listRuns(filter), ctx.api.robots(), loadCounts(ctx, filter, params)]);
   const runs = [...page.items];
   ctx.queue = runs.map((r) => r.id);
   const sites = [...new Set(robots.map((r) => r.site).filter((s): s is string => !!s))].sort();
