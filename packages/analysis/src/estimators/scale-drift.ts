@@ -111,13 +111,21 @@ function distanceAtTime(rows: AlignmentRows, t: number): number {
  * (k = 1.345σ). Drift = b/a per 100 m; σ from (JᵀWJ)⁻¹ times the residual variance.
  */
 function driftFromRows(rows: AlignmentRows, g: Float64Array, ba: Float64Array, steps: ScaleStep[], mPerUnit: number): { pct: number; sigma: number } | null {
-  const np = 2 + steps.length;
-  const J = new Float64Array(np), z = new Float64Array(3);
+  const S = steps.length, np = 2 + S;
+  // With the step times sorted, the levels active at a row are a prefix: steps 0..k−1 with k the row's level (the
+  // order of the step parameters does not change a, b or σ_b). The normal equations are then sums over rows grouped
+  // by level, built in O(rows + np²) per iteration instead of O(rows·np²) (an 8-hour run can hold many steps).
+  const stepT = Float64Array.from(steps, (st) => st.t).sort();
+  const level = new Int32Array(rows.n);
+  for (let r = 0; r < rows.n; r++) level[r] = countAtOrBefore(stepT, rows.t[r]!);
+  const z = new Float64Array(3), prefix = new Float64Array(S + 1);
+  // per level: Σw·|λ|², Σw·|λ|²·d, Σw·|λ|²·d², Σw·λ·z, Σw·λ·z·d; then the same as sums over levels ≥ k
+  const sum = Array.from({ length: 5 }, () => new Float64Array(S + 2));
   let x: Float64Array = new Float64Array(np);
   let huber = Number.POSITIVE_INFINITY, H = new Float64Array(np * np), s2 = 0;
   for (let it = 0; it < 4; it++) {
-    H = new Float64Array(np * np);
-    const rhs = new Float64Array(np);
+    for (const a of sum) a.fill(0);
+    for (let j = 0; j < S; j++) prefix[j + 1] = prefix[j]! + x[2 + j]!;
     let sse = 0, count = 0;
     for (let r = 0; r < rows.n; r++) {
       const d = (rows.distance[r]! * mPerUnit) / 100; // hundreds of metres
@@ -126,24 +134,35 @@ function driftFromRows(rows: AlignmentRows, g: Float64Array, ba: Float64Array, s
         for (let j = 0; j < 3; j++) zz += rows.m[9 * r + 3 * i + j]! * ba[j]!;
         z[i] = zz;
       }
-      let e2 = 0;
-      const l = [rows.lam[3 * r]!, rows.lam[3 * r + 1]!, rows.lam[3 * r + 2]!];
-      let sr = x[0]! + x[1]! * d;
-      steps.forEach((st, j) => { if (rows.t[r]! >= st.t) sr += x[2 + j]!; });
-      for (let i = 0; i < 3; i++) e2 += (sr * l[i]! - z[i]!) ** 2;
+      const l0 = rows.lam[3 * r]!, l1 = rows.lam[3 * r + 1]!, l2 = rows.lam[3 * r + 2]!, k = level[r]!;
+      const sr = x[0]! + x[1]! * d + prefix[k]!;
+      const e2 = (sr * l0 - z[0]!) ** 2 + (sr * l1 - z[1]!) ** 2 + (sr * l2 - z[2]!) ** 2;
       const e = Math.sqrt(e2);
       const w = it === 0 || e <= huber ? 1 : huber / e;
       sse += e2;
       count += 3;
-      for (let i = 0; i < 3; i++) {
-        J[0] = l[i]!;
-        J[1] = l[i]! * d;
-        steps.forEach((st, j) => { J[2 + j] = rows.t[r]! >= st.t ? l[i]! : 0; });
-        for (let a = 0; a < np; a++) {
-          rhs[a] = rhs[a]! + w * J[a]! * z[i]!;
-          for (let c = 0; c < np; c++) H[a * np + c] = H[a * np + c]! + w * J[a]! * J[c]!;
-        }
-      }
+      const ll = w * (l0 * l0 + l1 * l1 + l2 * l2), lz = w * (l0 * z[0]! + l1 * z[1]! + l2 * z[2]!);
+      sum[0]![k] += ll;
+      sum[1]![k] += ll * d;
+      sum[2]![k] += ll * d * d;
+      sum[3]![k] += lz;
+      sum[4]![k] += lz * d;
+    }
+    for (const a of sum) for (let k = S - 1; k >= 0; k--) a[k] = a[k]! + a[k + 1]!;
+    const [ll, lld, lldd, lz, lzd] = sum as [Float64Array, Float64Array, Float64Array, Float64Array, Float64Array];
+    H = new Float64Array(np * np);
+    const rhs = new Float64Array(np);
+    H[0] = ll[0]!;
+    H[1] = H[np] = lld[0]!;
+    H[np + 1] = lldd[0]!;
+    rhs[0] = lz[0]!;
+    rhs[1] = lzd[0]!;
+    for (let j = 0; j < S; j++) {
+      const p = 2 + j; // step j is active at levels ≥ j + 1
+      H[p] = H[p * np] = ll[j + 1]!;
+      H[np + p] = H[p * np + 1] = lld[j + 1]!;
+      rhs[p] = lz[j + 1]!;
+      for (let q = 0; q < S; q++) H[p * np + 2 + q] = ll[Math.max(j, q) + 1]!;
     }
     const sol = solveSpd(H, rhs, np);
     if (sol === null) return null;
@@ -156,6 +175,17 @@ function driftFromRows(rows: AlignmentRows, g: Float64Array, ba: Float64Array, s
   const sb = Math.sqrt(inv.inv[np + 1]! * s2);
   // Relative drift: b/a per 100 m, in percent; σ dominated by σ_b.
   return { pct: (x[1]! / x[0]!) * 100, sigma: (sb / x[0]!) * 100 };
+}
+
+/** Number of entries of the ascending array `ts` that are ≤ t (binary search). */
+function countAtOrBefore(ts: Float64Array, t: number): number {
+  let lo = 0, hi = ts.length;
+  while (lo < hi) {
+    const mid = (lo + hi) >>> 1;
+    if (ts[mid]! <= t) lo = mid + 1;
+    else hi = mid;
+  }
+  return lo;
 }
 
 /** Keeps at most `max` points by taking medians of equal-count bins (keeps Theil–Sen O(max²)). */
