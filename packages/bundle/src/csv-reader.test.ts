@@ -47,7 +47,7 @@ describe('round trip of every CSV type', () => {
     expect(columns.quality && [...columns.quality]).toEqual([0.75, 1]);
   });
   it('odometry.csv without quality has quality null', async () => {
-    const { columns } = await readOdometryCsv([enc('t,x,y,z,qw,qx,qy,qz\n1,0,0,0,1,0,0,0\n')]);
+    const { columns } = await readOdometryCsv([enc('t,x,y,z,qw,qx,qy,qz\n1,0,0,0,1,0,0,0\n2,0,0,0,1,0,0,0\n')]);
     expect(columns.quality).toBeNull();
   });
   it('gnss.csv with and without accuracies', async () => {
@@ -108,22 +108,25 @@ describe('header problems', () => {
     expect(e.message).toContain('"gyro_x"');
   });
   it('extra column is ignored and reported', async () => {
-    const r = await imuFrom('t,gx,gy,gz,temp_c,ax,ay,az\n1,2,3,4,hot,5,6,7\n');
+    const r = await imuFrom('t,gx,gy,gz,temp_c,ax,ay,az\n1,2,3,4,hot,5,6,7\n2,2,3,4,,8,6,7\n');
     expect(r.stats.extraColumns).toEqual(['temp_c']);
-    expect([...r.columns.ax]).toEqual([5]);
+    expect([...r.columns.ax]).toEqual([5, 8]);
   });
   it('header names may be quoted and in any case', async () => {
-    const r = await imuFrom('"T","GX",gy,gz,ax,ay,Az\n1,2,3,4,5,6,7\n');
-    expect([...r.columns.gx, ...r.columns.az]).toEqual([2, 7]);
+    const r = await imuFrom('"T","GX",gy,gz,ax,ay,Az\n1,2,3,4,5,6,7\n2,3,4,5,6,7,8\n');
+    expect([...r.columns.gx, ...r.columns.az]).toEqual([2, 3, 7, 8]);
   });
   it('duplicate column is rejected', async () => {
     const e = await bundleError(() => imuFrom('t,gx,gx,gy,gz,ax,ay,az\n'));
     expect(e).toMatchObject({ code: 'CSV_BAD_HEADER', line: 1, column: 3 });
   });
-  it('empty file and comment-only file are CSV_EMPTY; header only is CSV_NO_DATA', async () => {
+  it('empty file and comment-only file are CSV_EMPTY; header only or a single pose is CSV_NO_DATA', async () => {
     expect((await bundleError(() => imuFrom(''))).code).toBe('CSV_EMPTY');
     expect((await bundleError(() => imuFrom('# nothing\n\n'))).code).toBe('CSV_EMPTY');
     expect(await bundleError(() => imuFrom('t,gx,gy,gz,ax,ay,az\n'))).toMatchObject({ code: 'CSV_NO_DATA', file: 'imu.csv' });
+    const one = await bundleError(() => readOdometryCsv([enc('t,x,y,z,qw,qx,qy,qz\n1,0,0,0,1,0,0,0\n')], { file: 'odometry.csv' }));
+    expect(one).toMatchObject({ code: 'CSV_NO_DATA', line: 2 });
+    expect(one.message).toContain('at least 2 data rows, has 1');
   });
   it('non-UTF-8 header gives the byte column', async () => {
     const bytes = Buffer.concat([Buffer.from('t,gx,gy,g'), Buffer.from([0xff, 0x7a]), Buffer.from(',ax,ay,az\n1,2,3,4,5,6,7\n')]);

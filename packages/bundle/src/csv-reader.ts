@@ -19,8 +19,8 @@ export interface CsvTableSpec {
   columns: readonly CsvColumnSpec[];
   /** Row check run after the row is parsed; may also normalise values in place. */
   validateRow?: (cols: readonly Float64Array[], i: number) => RowProblem | null;
-  /** A file with a header and no data rows is accepted (otherwise CSV_NO_DATA). */
-  allowNoData?: boolean;
+  /** Fewest data rows a usable file has (fewer is CSV_NO_DATA). Default 1; 0 accepts a header-only file. */
+  minRows?: number;
 }
 
 export interface CsvOptions {
@@ -104,8 +104,10 @@ export class CsvColumnParser {
     const dataLines = this.n + stats.badLines + stats.nonFinite;
     this.reject(stats.badLines, dataLines, 'CSV_TOO_MANY_BAD_LINES', 'malformed');
     this.reject(stats.nonFinite, dataLines, 'CSV_TOO_MANY_NON_FINITE', 'non-finite (nan/inf)');
-    if (this.n === 0 && !this.spec.allowNoData) {
-      throw new BundleError('CSV_NO_DATA', 'header but no data rows', { file: this.file, line: stats.lines, column: 1 });
+    const minRows = this.spec.minRows ?? 1;
+    if (this.n < minRows) {
+      const what = this.n === 0 ? 'header but no data rows' : `needs at least ${minRows} data rows, has ${this.n}`;
+      throw new BundleError('CSV_NO_DATA', what, { file: this.file, line: stats.lines, column: 1 });
     }
     const present = this.spec.columns.map((_, k) => this.targetField[k] !== -1);
     const columns = this.stores.map((s) => s.subarray(0, this.n));

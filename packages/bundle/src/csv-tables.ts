@@ -34,11 +34,13 @@ function unitQuat(cols: readonly Float64Array[], i: number, k: number): RowProbl
 
 export const IMU_SPEC: CsvTableSpec = {
   columns: ['t', 'gx', 'gy', 'gz', 'ax', 'ay', 'az'].map(req),
+  minRows: 2, // a rate needs two samples
   validateRow: increasingTime,
 };
 
 export const ODOMETRY_SPEC: CsvTableSpec = {
   columns: [...['t', 'x', 'y', 'z', 'qw', 'qx', 'qy', 'qz'].map(req), opt('quality')],
+  minRows: 2, // a trajectory needs two poses
   validateRow(cols, i) {
     const q = cols[8]![i]!;
     if (q < 0 || q > 1) return { target: 8, message: `quality ${q} outside 0..1` };
@@ -49,7 +51,7 @@ export const ODOMETRY_SPEC: CsvTableSpec = {
 export const GNSS_SPEC: CsvTableSpec = {
   columns: [...['t', 'lat', 'lon', 'alt', 'fix'].map(req), ...['hacc', 'vacc', 'hdop', 'sats'].map(opt)],
   // a run without a single fix (indoors all shift) is a run without GNSS, not a broken bundle
-  allowNoData: true,
+  minRows: 0,
   validateRow(cols, i) {
     const lat = cols[1]![i]!, lon = cols[2]![i]!, fix = cols[4]![i]!;
     if (Math.abs(lat) > 90) return { target: 1, message: `latitude ${lat} outside -90..90 degrees` };
@@ -64,7 +66,7 @@ export const GNSS_SPEC: CsvTableSpec = {
 
 export const LOOPS_SPEC: CsvTableSpec = {
   columns: [...['t_a', 't_b', 'x', 'y', 'z', 'qw', 'qx', 'qy', 'qz'].map(req), opt('sigma_t'), opt('sigma_r')],
-  allowNoData: true,
+  minRows: 0,
   validateRow(cols, i) {
     for (let k = 9; k <= 10; k++) {
       if (cols[k]![i]! <= 0) return { target: k, message: `sigma ${cols[k]![i]} must be positive` };
