@@ -1,5 +1,5 @@
 import { readBundle, type GnssColumns, type ImuColumns, type LoopColumns, type OdometryColumns, type ReadStats } from '@plumbline/bundle';
-import { DEFAULT_POLICY, resolvePolicy, type Policy, type Report, type RunManifest } from '@plumbline/contracts';
+import { DEFAULT_POLICY, resolvePolicy, type Policy, type PolicyThresholds, type Report, type RunManifest } from '@plumbline/contracts';
 import pkg from '../package.json' with { type: 'json' };
 import { analyzeInertial } from './estimators/inertial.ts';
 import { checkTiming } from './estimators/integrity.ts';
@@ -7,6 +7,8 @@ import type { InertialFinding } from './estimators/types.ts';
 import { compareWithGnss, type GnssResult } from './gnss/gnss-compare.ts';
 import { analyzeLoops } from './loops/loop-analysis.ts';
 import { cumulativeDistance, distanceAt } from './loops/path.ts';
+import { gravityCorrection, levelUpInOdomWorld } from './loops/gravity-level.ts';
+import type { InertialAnalysis } from './estimators/inertial-types.ts';
 import { repairTrajectory, trajectoryCsv, type RepairedTrajectory } from './loops/repair.ts';
 import { buildReport } from './report/build-report.ts';
 import { buildEstimates, buildIntegrity } from './report/estimates.ts';
@@ -44,6 +46,21 @@ function scaleOf(v: { value: number | null }): number | null {
 }
 
 /**
+ * Gravity correction for the repair, for runs whose odometry claims a gravity-aligned world: the tilt is the
+ * inertial estimate when there is one, else the static-levelling angle; it is applied only from the policy's
+ * warning level on (a smaller tilt is within noise and left alone). The axis always comes from levelling.
+ */
+function gravityRotationFor(data: RunData, inertial: InertialAnalysis, th: PolicyThresholds): Float64Array | null {
+  const warn = th['gravity-tilt'].warn;
+  if (!data.manifest.odometry.world_gravity_aligned || warn === null) return null;
+  const up = levelUpInOdomWorld(data.imu, data.odometry, inertial.integrity.stationary, data.manifest);
+  if (!up) return null;
+  const est = inertial.estimates.gravity_tilt_deg.value;
+  const tiltDeg = est !== null && Number.isFinite(est) ? Math.abs(est) : (Math.acos(Math.min(1, Math.max(-1, up[2]!))) * 180) / Math.PI;
+  return tiltDeg >= warn ? gravityCorrection(up, tiltDeg) : null;
+}
+
+/**
  * Analyses one run: inertial checks, GNSS comparison, loop consistency and pose graph, triage, repair and the
  * report. Pure: no I/O, no clock, no randomness; equal input and policy give a byte-identical report.
  */
@@ -63,7 +80,8 @@ export function analyzeRunDetailed(data: RunData, policy: Policy = DEFAULT_POLIC
   const gnssScale = gnss && gnss.ok && gnss.scaleFree ? scaleOf({ value: gnss.global.scale }) : null;
   const scaleSource = inertialScale !== null ? 'inertial' : gnssScale !== null ? 'gnss' : null;
   const repaired = repairTrajectory({
-    odometry, keyframes: loops.keyframes, optimised: loops.optimised, scale: inertialScale ?? gnssScale, gravityRotation: null,
+    odometry, keyframes: loops.keyframes, optimised: loops.optimised, scale: inertialScale ?? gnssScale,
+    gravityRotation: gravityRotationFor(data, inertial, th),
   });
   const findings: InertialFinding[] = [...inertial.findings, ...(gnss && gnss.ok ? gnss.findings : []), ...loops.findings];
   const flags = buildFlags(findings, th, clock);

@@ -130,7 +130,8 @@ export function estimateGravityScale(rows: AlignmentRows, worldGravityAligned: b
   // Pass 1: scales with zero bias, to hold scale fixed while the run-level bias is estimated.
   const first = perWindow(zero);
   const s0 = Float64Array.from(first, (r) => (r !== null ? r.s : Number.NaN));
-  const anyObservable = first.some((r, w) => observable(w, r) === '');
+  // Pass 1 runs without the bias, whose error inflates σ_s: decide on excitation alone here.
+  const anyObservable = first.some((r, w) => r !== null && accelStd[w]! >= minStd);
   const joint = runLevel(rows, win, s0, G, options.estimateBias ?? true, anyObservable);
   const ba = joint?.bias ?? zero;
   const second = perWindow(ba);

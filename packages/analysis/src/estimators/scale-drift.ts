@@ -10,7 +10,7 @@
  * Steps: the velocity mismatch between the IMU and the odometry (running sum of alignment residuals at a fixed scale)
  * jumps by (s0/s1 − 1)·v at a scale step and follows the odometry velocity afterwards, even at constant velocity.
  * A local least-squares step model is scanned along the run (a change-point search in the manner of E. S. Page,
- * "Continuous inspection schemes", Biometrika 41, 1954), significant candidates of at least 1.5 % are kept (common
+ * "Continuous inspection schemes", Biometrika 41, 1954), significant candidates of at least 2.5 % are kept (common
  * practice) and each is located by the best split at keyframe resolution, with Δχ² = 1 bounds.
  */
 import type { AlignmentRows } from './alignment-rows.ts';
@@ -36,7 +36,7 @@ export interface ScaleDriftResult {
 }
 
 export interface ScaleDriftOptions {
-  /** Smallest step reported, % (default 1.5). */
+  /** Smallest step reported, % (default 2.5). */
   minStepPct?: number;
 }
 
@@ -120,7 +120,8 @@ function driftFromRows(rows: AlignmentRows, g: Float64Array, ba: Float64Array, s
   for (let r = 0; r < rows.n; r++) level[r] = countAtOrBefore(stepT, rows.t[r]!);
   const z = new Float64Array(3), prefix = new Float64Array(S + 1);
   // per level: Σw·|λ|², Σw·|λ|²·d, Σw·|λ|²·d², Σw·λ·z, Σw·λ·z·d; then the same as sums over levels ≥ k
-  const sum = Array.from({ length: 5 }, () => new Float64Array(S + 2));
+  const ll = new Float64Array(S + 1), lld = new Float64Array(S + 1), lldd = new Float64Array(S + 1);
+  const lz = new Float64Array(S + 1), lzd = new Float64Array(S + 1), sum = [ll, lld, lldd, lz, lzd];
   let x: Float64Array = new Float64Array(np);
   let huber = Number.POSITIVE_INFINITY, H = new Float64Array(np * np), s2 = 0;
   for (let it = 0; it < 4; it++) {
@@ -141,15 +142,14 @@ function driftFromRows(rows: AlignmentRows, g: Float64Array, ba: Float64Array, s
       const w = it === 0 || e <= huber ? 1 : huber / e;
       sse += e2;
       count += 3;
-      const ll = w * (l0 * l0 + l1 * l1 + l2 * l2), lz = w * (l0 * z[0]! + l1 * z[1]! + l2 * z[2]!);
-      sum[0]![k] += ll;
-      sum[1]![k] += ll * d;
-      sum[2]![k] += ll * d * d;
-      sum[3]![k] += lz;
-      sum[4]![k] += lz * d;
+      const wll = w * (l0 * l0 + l1 * l1 + l2 * l2), wlz = w * (l0 * z[0]! + l1 * z[1]! + l2 * z[2]!);
+      ll[k] = ll[k]! + wll;
+      lld[k] = lld[k]! + wll * d;
+      lldd[k] = lldd[k]! + wll * d * d;
+      lz[k] = lz[k]! + wlz;
+      lzd[k] = lzd[k]! + wlz * d;
     }
     for (const a of sum) for (let k = S - 1; k >= 0; k--) a[k] = a[k]! + a[k + 1]!;
-    const [ll, lld, lldd, lz, lzd] = sum as [Float64Array, Float64Array, Float64Array, Float64Array, Float64Array];
     H = new Float64Array(np * np);
     const rhs = new Float64Array(np);
     H[0] = ll[0]!;
@@ -203,11 +203,12 @@ function thinPoints(x: number[], y: number[], max: number): { x: number[]; y: nu
 /**
  * Step candidates from the window scales (all windows with a solution, observable or not, weighted by 1/σ²): at every
  * window centre, the weighted mean of the windows ending before it against those starting after it (up to 3 windows
- * each side, so the two groups share no data); z = Δ/√(σ²_before + σ²_after) above 6 and |Δ| ≥ minStepPct are kept,
- * one per 15 s, then located by `locateStep`.
+ * each side, so the two groups share no data); z = Δ/√(σ²_before + σ²_after) above 8 and |Δ| ≥ minStepPct (default
+ * 2.5 %, above the scale wander of a good front end) are kept,
+ * one per two window lengths, then located by `locateStep`.
  */
 function findSteps(raw: { t: Float64Array; value: Float64Array; sigma: Float64Array }, windowS: number, rows: AlignmentRows, g: Float64Array, ba: Float64Array, options: ScaleDriftOptions): ScaleStep[] {
-  const minPct = options.minStepPct ?? 1.5;
+  const minPct = options.minStepPct ?? 2.5;
   const n = raw.t.length;
   const cand: { t: number; z: number; before: number; after: number }[] = [];
   for (let w = 0; w < n; w++) {
@@ -224,13 +225,19 @@ function findSteps(raw: { t: Float64Array; value: Float64Array; sigma: Float64Ar
     if (wb === 0 || wa === 0) continue;
     const before = sb / wb, after = sa / wa;
     const z = Math.abs(after - before) / Math.sqrt(1 / wb + 1 / wa);
-    if (z > 6 && Math.abs(after / before - 1) * 100 >= minPct) cand.push({ t: tb, z, before, after });
+    if (z > 8 && Math.abs(after / before - 1) * 100 >= minPct) cand.push({ t: tb, z, before, after });
   }
   cand.sort((x, y) => y.z - x.z);
   const steps: ScaleStep[] = [];
+  const taken: number[] = [];
   for (const c of cand) {
-    if (steps.some((st) => Math.abs(st.t - c.t) < 15)) continue;
-    steps.push(locateStep(rows, g, ba, c.t - 1.5 * windowS, c.t + 1.5 * windowS, c.before, c.after));
+    // A step moves every window that overlaps it: one candidate per 2 window lengths.
+    if (taken.some((t) => Math.abs(t - c.t) < 2 * windowS)) continue;
+    taken.push(c.t);
+    const at = locateStep(rows, g, ba, c.t - 1.5 * windowS, c.t + 1.5 * windowS, c.before, c.after);
+    if (steps.some((st) => Math.abs(st.t - at.t) < windowS)) continue; // the shadow of a stronger step
+    // Size from the window groups (acceleration-based scales); time from the velocity-mismatch split.
+    steps.push({ ...at, before: c.before, after: c.after, stepPct: (c.after / c.before - 1) * 100 });
   }
   return steps.sort((x, y) => x.t - y.t);
 }

@@ -44,7 +44,7 @@ describe('maintenanceFindings', () => {
       estimates: {
         time_offset_s: none, clock_skew_ppm: none, gyro_bias_rad_s: none, accel_bias_m_s2: none, gravity_tilt_deg: none, gravity_magnitude_m_s2: none,
         scale: none, scale_drift_pct_per_100m: none, gyro_noise_density: none, accel_noise_density: none, gnss_rmse_m: none, loop_drift_pct: none, loop_drift_deg_per_m: none,
-        extrinsic_rotation_error_deg: { value: 0.4 + 0.1 * wobble(i) + (i >= 4 ? 0.12 * (i - 4) : 0), sigma: 0.2, unit: 'deg' },
+        extrinsic_rotation_error_deg: { value: 0.4 + 0.1 * wobble(i) + (i >= 4 ? 0.15 * (i - 4) : 0), sigma: 0.2, unit: 'deg' },
       },
     }));
     const [f, ...rest] = maintenanceFindings('kestrel-01', runs, '2026-03-20T00:00:00.000Z');

@@ -23,7 +23,7 @@ export interface DriftDetection {
 }
 
 export interface DriftOptions {
-  /** Fewest runs with a value before anything is said (default 6). */
+  /** Fewest runs with a value before anything is said (default 8). */
   minRuns?: number;
   /** CUSUM slack and threshold in units of the run-to-run sigma (defaults 0.5 and 5: NIST/SEMATECH e-Handbook §6.3.2.3 — from memory). */
   slackSigma?: number;
@@ -50,16 +50,20 @@ function noiseSigma(ys: readonly number[], rule: DriftRule): number {
  * Detects a calibration drift in one series (runs oldest first). Method: the run-to-run noise σ is estimated
  * robustly; a two-sided tabular CUSUM (Page 1954; slack σ/2, threshold 5σ) against the median of the first third of
  * the runs gives the onset of a shift; without an alarm, a Theil–Sen slope over all runs whose 95 % interval excludes
- * zero (Sen 1968) is a trend from the first run. Either is a finding only when the recent level (median of the last
- * three runs) differs from the level before the onset (median of up to eight runs) by at least the rule's minimum
- * change, in the direction the rule cares about. `null`: no drift, or too few runs.
+ * zero (Sen 1968, at least ten runs) is a trend from the first run. Either is a finding only when the recent level
+ * (median of up to five runs since the onset) differs from the level before the onset (median of up to eight runs)
+ * by at least the rule's minimum change and by three standard errors, in the direction the rule cares about. `null`: no drift, or too few runs.
  */
 export function detectDrift(series: CalibrationSeries, rule: DriftRule = DRIFT_RULES[series.metric], options: DriftOptions = {}): DriftDetection | null {
-  const minRuns = options.minRuns ?? 6;
+  const minRuns = options.minRuns ?? 8;
+  // Estimates far less certain than is usual for this robot (σ above 2.5× the median σ) are left out.
+  const sigmas = series.sigma.filter((x): x is number => x !== null && Number.isFinite(x));
+  const sigmaCap = sigmas.length >= 3 ? 2.5 * medianOf(sigmas) : Infinity;
   const idx: number[] = [];
   const ys: number[] = [];
   series.v.forEach((v, i) => {
-    if (v !== null && Number.isFinite(v)) {
+    const sv = series.sigma[i] ?? null;
+    if (v !== null && Number.isFinite(v) && !(sv !== null && sv > sigmaCap)) {
       idx.push(i);
       ys.push(v);
     }
@@ -70,28 +74,35 @@ export function detectDrift(series: CalibrationSeries, rule: DriftRule = DRIFT_R
   const baseN = Math.max(3, Math.min(8, Math.floor(n / 3)));
   const baseline = medianOf(ys.slice(0, baseN));
   const alarms = cusum(Float64Array.from(ys), baseline, (options.slackSigma ?? 0.5) * sigma, (options.thresholdSigma ?? 5) * sigma);
-  const recent = medianOf(ys.slice(Math.max(0, n - 3)));
   const first = alarms[0];
   let onset: number;
   if (first) {
     onset = Math.min(first.onset, n - 1);
   } else {
+    if (n < 10) return null;
     const fit = theilSen(Float64Array.from(idx), Float64Array.from(ys));
     if (!fit.ok || (fit.slopeLow <= 0 && fit.slopeHigh >= 0)) return null;
     onset = 0;
   }
-  // A step and a ramp both trip the CUSUM; the least-squares split (Hinkley 1970) locates a step better than the
-  // CUSUM restart point, and a flat tail after it tells a step from a ramp.
+  // A step and a ramp both trip the CUSUM. The step is located by the least-squares split (Hinkley 1970), the ramp
+  // starts at the CUSUM onset; the model with the smaller sum of squared residuals names the method.
   const ysArr = Float64Array.from(ys);
-  const split = first ? stepChange(ysArr, 1) : null;
   let method: 'trend' | 'step' = 'trend';
-  if (split?.ok && !slopeSignificant(idx, ys, split.index)) {
-    method = 'step';
-    onset = split.index;
+  if (first) {
+    const split = stepChange(ysArr, 1);
+    if (split.ok && split.sseTwo < rampSse(idx, ys, onset)) {
+      method = 'step';
+      onset = split.index;
+    }
   }
-  const before = onset === 0 ? baseline : medianOf(ys.slice(Math.max(0, onset - 8), onset));
-  const change = recent - before;
-  if (Math.abs(change) < rule.minChange) return null;
+  // Levels: up to five recent runs (at least three) against up to eight runs before the onset. The change must
+  // pass the rule's size and be three standard errors of a difference of medians (σ·1.2533/√m each, the
+  // asymptotic efficiency of the median; from memory) so single wild estimates do not make a finding.
+  const recentN = Math.max(3, Math.min(5, n - onset));
+  const beforeYs = onset === 0 ? ys.slice(0, baseN) : ys.slice(Math.max(0, onset - 8), onset);
+  const change = medianOf(ys.slice(n - recentN)) - medianOf(beforeYs);
+  const standardError = 1.2533 * sigma * Math.sqrt(1 / recentN + 1 / beforeYs.length);
+  if (Math.abs(change) < Math.max(rule.minChange, 3 * standardError)) return null;
   if (rule.direction === 'up' && change < 0) return null;
   const tail = theilSen(Float64Array.from(idx.slice(onset)), ysArr.subarray(onset));
   return {
@@ -107,11 +118,18 @@ export function detectDrift(series: CalibrationSeries, rule: DriftRule = DRIFT_R
   };
 }
 
-/** Whether the Theil–Sen slope over the runs from `from` on has a 95 % interval excluding zero (needs ≥ 4 runs). */
-function slopeSignificant(idx: readonly number[], ys: readonly number[], from: number): boolean {
-  if (ys.length - from < 4) return false;
+/** Residual sum of squares of "flat, then a Theil–Sen line from `from` on". */
+function rampSse(idx: readonly number[], ys: readonly number[], from: number): number {
+  let sse = 0;
+  if (from > 0) {
+    const head = ys.slice(0, from);
+    const mean = head.reduce((a, b) => a + b, 0) / head.length;
+    for (const y of head) sse += (y - mean) ** 2;
+  }
   const fit = theilSen(Float64Array.from(idx.slice(from)), Float64Array.from(ys.slice(from)));
-  return fit.ok && (fit.slopeLow > 0 || fit.slopeHigh < 0);
+  if (!fit.ok) return Infinity;
+  for (let i = from; i < ys.length; i++) sse += (ys[i]! - fit.intercept - fit.slope * idx[i]!) ** 2;
+  return sse;
 }
 
 function formatDate(iso: string | null): string {

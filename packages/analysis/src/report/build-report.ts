@@ -59,7 +59,8 @@ function corrections(p: ReportParts, loops: Loop[]): Corrections {
   } else notes.push('no pose-graph correction: no usable loop');
   if (r?.scaleApplied == null) notes.push('scale not applied: not estimated for this run');
   else notes.push(`scale ${r.scaleApplied.toPrecision(6)} applied, from the ${p.scaleSource === 'gnss' ? 'GNSS alignment' : 'inertial alignment'}`);
-  if (r?.gravityRotationDeg == null) notes.push('gravity rotation not applied');
+  if (r?.gravityRotationDeg == null) notes.push('gravity rotation not applied: tilt below the warning level or not estimated');
+  else notes.push(`world rotated by ${r.gravityRotationDeg.toPrecision(3)}° to bring gravity onto −z (axis from static levelling)`);
   return {
     scale_applied: r?.scaleApplied ?? null,
     gravity_rotation_deg: r?.gravityRotationDeg ?? null,
