@@ -5,6 +5,9 @@ import { indexAtTime, type TimeCursor } from './cursor.ts';
 import { attachInteraction } from './map-interaction.ts';
 import { alignForDisplay, mapStretches, pathBounds, transformPath, type Stretch } from './map-data.ts';
 
+/** Screen box of a placed label: x0, y0, x1, y1 in CSS px. */
+type Box = [number, number, number, number];
+
 /** World-to-screen transform: uniform scale (maps must not be stretched), y up. */
 interface View {
   cx: number;
@@ -57,7 +60,7 @@ export function createMapView(report: Report, cursor: TimeCursor, height = 420):
     ctx.stroke();
   }
 
-  function drawLoops(ctx: CanvasRenderingContext2D, loops: readonly Loop[]): void {
+  function drawLoops(ctx: CanvasRenderingContext2D, loops: readonly Loop[], placed: Box[]): void {
     for (const loop of loops) {
       const a = indexAtTime(traj.t, loop.t_a);
       const b = indexAtTime(traj.t, loop.t_b);
@@ -86,14 +89,13 @@ export function createMapView(report: Report, cursor: TimeCursor, height = 420):
         ctx.stroke();
         ctx.font = 'bold 12px system-ui, "DejaVu Sans", sans-serif';
         ctx.textAlign = 'left';
-        ctx.textBaseline = 'middle';
-        haloText(ctx, `✕ rejected ${loop.id}`, mx + 9, my, '#7a2a5a');
+        ctx.textBaseline = 'bottom';
+        placeLabel(ctx, placed, `✕ rejected ${loop.id}`, mx + 9, my + 5, '#7a2a5a');
       }
     }
   }
 
-  function drawStretches(ctx: CanvasRenderingContext2D, stretches: readonly Stretch[]): void {
-    const placed: [number, number, number, number][] = [];
+  function drawStretches(ctx: CanvasRenderingContext2D, stretches: readonly Stretch[], placed: Box[]): void {
     for (const st of stretches) {
       const i0 = indexAtTime(traj.t, st.t_start);
       const i1 = Math.min(Math.max(indexAtTime(traj.t, st.t_end), i0 + 1), traj.x.length - 1);
@@ -125,14 +127,14 @@ export function createMapView(report: Report, cursor: TimeCursor, height = 420):
   }
 
   /** Draw a label at the first of a few offsets where it overlaps no earlier label; leave it out otherwise. */
-  function placeLabel(ctx: CanvasRenderingContext2D, placed: [number, number, number, number][], text: string, x: number, y: number): void {
+  function placeLabel(ctx: CanvasRenderingContext2D, placed: Box[], text: string, x: number, y: number, colour?: string): void {
     const tw = ctx.measureText(text).width;
     if (x + tw > w - 4) x = Math.max(4, x - 16 - tw); // flip to the left of the anchor near the right edge
     for (const dy of [0, 16, -16, 32, -32]) {
-      const box: [number, number, number, number] = [x, y + dy - 14, x + tw, y + dy];
+      const box: Box = [x, y + dy - 14, x + tw, y + dy];
       if (placed.some((b) => box[0] < b[2] && box[2] > b[0] && box[1] < b[3] && box[3] > b[1])) continue;
       placed.push(box);
-      haloText(ctx, text, x, y + dy);
+      haloText(ctx, text, x, y + dy, colour);
       return;
     }
   }
@@ -192,8 +194,9 @@ export function createMapView(report: Report, cursor: TimeCursor, height = 420):
     ctx.strokeStyle = '#1b1b1b';
     ctx.lineWidth = 1.6;
     strokePath(ctx, traj);
-    drawLoops(ctx, report.loops);
-    drawStretches(ctx, mapStretches(report));
+    const placed: Box[] = []; // label boxes, so later labels move aside instead of overprinting
+    drawLoops(ctx, report.loops, placed);
+    drawStretches(ctx, mapStretches(report), placed);
     if (traj.x.length > 0) {
       ctx.font = '12px system-ui, "DejaVu Sans", sans-serif';
       ctx.textAlign = 'left';
