@@ -21,3 +21,5 @@ export type { RunTruth, TruthFault } from './truth.ts';
 export { nmeaChecksum } from './io/nmea.ts';
 export { createRng } from './prng.ts';
 export type { Rng } from './prng.ts';
+export { driftingFleetShifts, simulateDriftShift, DRIFTING_FLEET } from './fleet-drift.ts';
+export type { DriftKind, DriftingRobot, DriftShift } from './fleet-drift.ts';
