@@ -3,7 +3,7 @@ import { join } from 'node:path';
 import { gzipSync } from 'node:zlib';
 import { afterAll, describe, expect, it } from 'vitest';
 import { openBundle, type OpenedBundle } from './archive.ts';
-import type { ArchiveLimits } from './archive-extractor.ts';
+import { safeEntryName, type ArchiveLimits } from './archive-extractor.ts';
 import { BundleError } from './errors.ts';
 import {
   bundleFiles, filesAsTarEntries, filesAsZipEntries, patchName, removeTempDirs, tarBuffer, tempDir, writeFiles, zipBuffer, type TarEntry,
@@ -84,6 +84,17 @@ describe('accepted bundle forms', () => {
   it('something else is BUNDLE_UNSUPPORTED; a missing path BUNDLE_NOT_FOUND', async () => {
     expect((await rejects('run.json', Buffer.from('{}'))).code).toBe('BUNDLE_UNSUPPORTED');
     await expect(openBundle('/nonexistent/run.tar')).rejects.toMatchObject({ code: 'BUNDLE_NOT_FOUND' });
+  });
+});
+
+describe('entry names', () => {
+  it('are normalised to relative POSIX paths; the root itself is null', () => {
+    expect(safeEntryName('a.tar', './data//imu.csv')).toBe('data/imu.csv');
+    expect(safeEntryName('a.tar', 'bundle/')).toBe('bundle');
+    expect(safeEntryName('a.tar', './')).toBeNull();
+  });
+  it.each(['..', 'a/../../b', '/abs', 'C:/win', 'a\\b', 'nul\0byte'])('refuses %j', (name) => {
+    expect(() => safeEntryName('a.tar', name)).toThrow(expect.objectContaining({ code: 'ARCHIVE_PATH_TRAVERSAL', file: 'a.tar' }));
   });
 });
 

@@ -1,4 +1,4 @@
-import { writeFile } from 'node:fs/promises';
+import { readdir, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { gzipSync } from 'node:zlib';
 import { afterAll, describe, expect, it } from 'vitest';
@@ -43,7 +43,9 @@ describe('readBundle', () => {
     await writeFile(join(dir, 'run.zip'), await zipBuffer(filesAsZipEntries(files)));
     const ref = await readBundle(await asDir(files));
     for (const name of ['run.tgz', 'run.zip']) {
-      const b = await readBundle(join(dir, name), { limits: { tmpDir: await tempDir() } });
+      const tmp = await tempDir();
+      const b = await readBundle(join(dir, name), { limits: { tmpDir: tmp } });
+      expect(await readdir(tmp)).toEqual([]); // extraction directory removed once the columns are in memory
       expect([...b.imu.gx]).toEqual([...ref.imu.gx]);
       expect([...b.odometry.qz]).toEqual([...ref.odometry.qz]);
       expect([...(b.gnss?.lat ?? [])]).toEqual([...(ref.gnss?.lat ?? [])]);
