@@ -166,6 +166,15 @@ describe.skipIf(!haveBrowser)('dashboard end to end', () => {
     await page.goto(`${base}/#/queue?robot_id=kestrel-01&from=2026-11-30&to=2026-11-30`);
     const k1 = runs.filter((r) => r.robot === 'kestrel-01').length; // the analysed seed run is heron-01's
     await page.waitForFunction((k) => document.querySelectorAll('table.runs tbody tr[data-run]').length === k, k1);
+    // Cursor pagination through the real API: pages of 4, then "Load more" appends the next page.
+    await page.goto(`${base}/#/queue?limit=4`);
+    await page.waitForFunction(() => document.querySelectorAll('table.runs tbody tr').length === 4);
+    const firstPage = await page.$$eval('table.runs tbody tr', (trs) => trs.map((tr) => tr.getAttribute('data-run')));
+    await page.click('button.load-more');
+    await page.waitForFunction(() => document.querySelectorAll('table.runs tbody tr').length === 8);
+    const both = await page.$$eval('table.runs tbody tr', (trs) => trs.map((tr) => tr.getAttribute('data-run')));
+    expect(both.slice(0, 4)).toEqual(firstPage);
+    expect(new Set(both).size).toBe(8);
     await page.goto(`${base}/#/queue?from=2026-12-01`);
     await page.waitForSelector('p.empty');
     expect(await page.textContent('p.empty')).toContain('Nothing awaits a decision');

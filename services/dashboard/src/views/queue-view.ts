@@ -5,12 +5,13 @@ import { h } from '../dom.ts';
 import { VERDICT_STYLE, fmtDistance, fmtDuration, fmtTimestamp, DECISION_STYLE } from '../format.ts';
 import { flagCountChips, flagKindLabel, severityBadge, verdictBadge } from './badges.ts';
 
-const FILTER_KEYS = ['robot_id', 'site', 'verdict', 'flag_kind', 'reviewed', 'from', 'to'] as const;
+const FILTER_KEYS = ['robot_id', 'site', 'verdict', 'flag_kind', 'reviewed', 'from', 'to', 'limit'] as const;
 type FilterKey = (typeof FILTER_KEYS)[number];
 
 /** Hash query (from the address bar) -> API filter. Dates are whole UTC days; `reviewed` defaults to the open queue. */
 export function filterFromParams(p: URLSearchParams): RunFilter {
-  const f: RunFilter = { sort: 'priority', limit: '50' };
+  const limit = Number(p.get('limit'));
+  const f: RunFilter = { sort: 'priority', limit: Number.isInteger(limit) && limit >= 1 && limit <= 500 ? String(limit) : '50' };
   for (const k of ['robot_id', 'site', 'verdict', 'flag_kind'] as const) {
     const v = p.get(k);
     if (v) f[k] = v;
@@ -100,7 +101,8 @@ export async function renderQueue(ctx: AppContext, params: URLSearchParams): Pro
     const next = new URLSearchParams();
     for (const k of FILTER_KEYS) {
       const el = form.elements.namedItem(k) as HTMLInputElement | HTMLSelectElement | null;
-      if (el?.value && !(k === 'reviewed' && el.value === 'false')) next.set(k, el.value);
+      const value = el ? el.value : params.get(k); // page size has no control; it stays as given in the address
+      if (value && !(k === 'reviewed' && value === 'false')) next.set(k, value);
     }
     ctx.navigate(`#/queue${next.toString() ? `?${next.toString()}` : ''}`);
   });
@@ -108,7 +110,7 @@ export async function renderQueue(ctx: AppContext, params: URLSearchParams): Pro
   const tbody = h('tbody');
   const open = (id: string): void => ctx.navigate(`#/runs/${encodeURIComponent(id)}`);
   for (const r of runs) tbody.append(runRow(r, open));
-  const more = h('button', { type: 'button', class: 'secondary', hidden: !page.next_cursor }, 'Load more runs');
+  const more = h('button', { type: 'button', class: 'secondary load-more', hidden: !page.next_cursor }, 'Load more runs');
   let cursor = page.next_cursor;
   more.addEventListener('click', async () => {
     if (!cursor) return;

@@ -13,6 +13,11 @@ describe('queue filters from the address bar', () => {
     const f = filterFromParams(new URLSearchParams('robot_id=heron-01&verdict=unfit&flag_kind=time-offset&from=2026-11-01&to=2026-11-30'));
     expect(f).toMatchObject({ robot_id: 'heron-01', verdict: 'unfit', flag_kind: 'time-offset', started_after: '2026-11-01T00:00:00Z', started_before: '2026-11-30T23:59:59Z' });
   });
+  it('takes a page size from 1 to 500 and falls back to 50', () => {
+    expect(filterFromParams(new URLSearchParams('limit=4')).limit).toBe('4');
+    expect(filterFromParams(new URLSearchParams('limit=900')).limit).toBe('50');
+    expect(filterFromParams(new URLSearchParams('limit=2.5')).limit).toBe('50');
+  });
   it('shows every run newest first for reviewed=all and ignores malformed dates', () => {
     const f = filterFromParams(new URLSearchParams('reviewed=all&from=yesterday'));
     expect(f.reviewed).toBeUndefined();
