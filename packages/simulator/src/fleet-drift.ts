@@ -7,7 +7,7 @@
  * The IMUs are factory-calibrated (small turn-on bias) so a trend is not hidden by power-up spread.
  */
 import { simulateRun, type SimulatedRun } from './simulate.ts';
-import { makeRunSpec, type FaultSpec, type RunSpec, type SiteId } from './spec.ts';
+import { DEFAULT_IMU, makeRunSpec, type FaultSpec, type RunSpec, type SiteId } from './spec.ts';
 
 export type DriftKind = 'extrinsic-creep' | 'gyro-bias-growth' | 'clock-drift' | 'none';
 
@@ -71,7 +71,7 @@ export function driftingFleetShifts(opts: { shifts?: number; durationS?: number;
           odometryRateHz: 10,
           gnssRateHz: 0,
           loops: true,
-          imu: { gyroTurnOnBias: 0.0005, accelTurnOnBias: 0.02 },
+          imu: { ...DEFAULT_IMU, gyroTurnOnBias: 0.0005, accelTurnOnBias: 0.02 },
           faults: faultsOf(r, injected),
         }),
       });
