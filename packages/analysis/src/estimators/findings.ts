@@ -8,7 +8,8 @@ import type { InertialFinding, WindowSeries } from './types.ts';
 
 /**
  * Stretches of consecutive windows where `pick(value, w)` is true; value of a stretch = the value of largest magnitude.
- * Window w spans t[w] ± windowS/2.
+ * Overlapping windows each own the middle of their span, t[w] ± hop/2 (hop = spacing of window centres), so a finding
+ * does not spill over a neighbouring window that did not pass.
  */
 export function stretches(
   s: WindowSeries, windowS: number, kind: FlagKind, unit: string, detail: string,
@@ -16,8 +17,9 @@ export function stretches(
 ): InertialFinding[] {
   const out: InertialFinding[] = [];
   let start = -1, best = 0;
+  const half = (s.t.length > 1 ? Math.min(windowS, s.t[1]! - s.t[0]!) : windowS) / 2;
   const close = (end: number) => {
-    out.push({ kind, tStart: s.t[start]! - windowS / 2, tEnd: s.t[end]! + windowS / 2, value: best, unit, detail });
+    out.push({ kind, tStart: s.t[start]! - half, tEnd: s.t[end]! + half, value: best, unit, detail });
     start = -1;
     best = 0;
   };
@@ -36,7 +38,7 @@ export function stretches(
 export function unobservableStretches(s: WindowSeries, windowS: number, what: string): InertialFinding[] {
   const found = stretches(s, windowS, 'unobservable', 's', '', (_v, w) => s.reasons[w]!.startsWith('unobservable'), () => 0);
   return found.map((f) => {
-    const first = s.t.findIndex((t) => t - windowS / 2 >= f.tStart - 1e-9);
+    const first = s.t.findIndex((t) => t >= f.tStart - 1e-9);
     return { ...f, value: f.tEnd - f.tStart, detail: `${what}: ${s.reasons[Math.max(0, first)] ?? 'unobservable'}` };
   });
 }

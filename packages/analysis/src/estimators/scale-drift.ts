@@ -205,39 +205,39 @@ function thinPoints(x: number[], y: number[], max: number): { x: number[]; y: nu
  * window centre, the weighted mean of the windows ending before it against those starting after it (up to 3 windows
  * each side, so the two groups share no data); z = Δ/√(σ²_before + σ²_after) above 8 and |Δ| ≥ minStepPct (default
  * 2.5 %, above the scale wander of a good front end) are kept,
- * one per two window lengths, then located by `locateStep`.
+ * strongest first, each located by `locateStep`, and the scan repeated with groups that do not reach across an accepted
+ * step.
  */
 function findSteps(raw: { t: Float64Array; value: Float64Array; sigma: Float64Array }, windowS: number, rows: AlignmentRows, g: Float64Array, ba: Float64Array, options: ScaleDriftOptions): ScaleStep[] {
   const minPct = options.minStepPct ?? 2.5;
   const n = raw.t.length;
-  const cand: { t: number; z: number; before: number; after: number }[] = [];
-  for (let w = 0; w < n; w++) {
-    const tb = raw.t[w]!;
-    let wb = 0, sb = 0, wa = 0, sa = 0;
-    for (let j = 0; j < n; j++) {
-      const v = raw.value[j]!, sg = raw.sigma[j]!;
-      if (!Number.isFinite(v) || !(sg > 0)) continue;
-      const dt = raw.t[j]! - tb;
-      const wt = 1 / (sg * sg);
-      if (dt <= -windowS / 2 && dt >= -3.5 * windowS) [wb, sb] = [wb + wt, sb + wt * v];
-      else if (dt >= windowS / 2 && dt <= 3.5 * windowS) [wa, sa] = [wa + wt, sa + wt * v];
-    }
-    if (wb === 0 || wa === 0) continue;
-    const before = sb / wb, after = sa / wa;
-    const z = Math.abs(after - before) / Math.sqrt(1 / wb + 1 / wa);
-    if (z > 8 && Math.abs(after / before - 1) * 100 >= minPct) cand.push({ t: tb, z, before, after });
-  }
-  cand.sort((x, y) => y.z - x.z);
   const steps: ScaleStep[] = [];
-  const taken: number[] = [];
-  for (const c of cand) {
-    // A step moves every window that overlaps it: one candidate per 2 window lengths.
-    if (taken.some((t) => Math.abs(t - c.t) < 2 * windowS)) continue;
-    taken.push(c.t);
-    const at = locateStep(rows, g, ba, c.t - 1.5 * windowS, c.t + 1.5 * windowS, c.before, c.after);
-    if (steps.some((st) => Math.abs(st.t - at.t) < windowS)) continue; // the shadow of a stronger step
+  // Greedy: accept the strongest candidate, then rescan with groups that may not reach across an accepted step.
+  for (let pass = 0; pass < 50; pass++) {
+    let best: { t: number; z: number; before: number; after: number } | null = null;
+    for (let w = 0; w < n; w++) {
+      const tb = raw.t[w]!;
+      if (steps.some((st) => Math.abs(st.t - tb) < windowS)) continue;
+      let wb = 0, sb = 0, wa = 0, sa = 0;
+      for (let j = 0; j < n; j++) {
+        const v = raw.value[j]!, sg = raw.sigma[j]!;
+        if (!Number.isFinite(v) || !(sg > 0)) continue;
+        const tj = raw.t[j]!, dt = tj - tb, wt = 1 / (sg * sg);
+        if (dt <= -windowS / 2 && dt >= -3.5 * windowS) {
+          if (!steps.some((st) => st.t >= tj - windowS / 2 && st.t <= tb)) [wb, sb] = [wb + wt, sb + wt * v];
+        } else if (dt >= windowS / 2 && dt <= 3.5 * windowS) {
+          if (!steps.some((st) => st.t >= tb && st.t <= tj + windowS / 2)) [wa, sa] = [wa + wt, sa + wt * v];
+        }
+      }
+      if (wb === 0 || wa === 0) continue;
+      const before = sb / wb, after = sa / wa;
+      const z = Math.abs(after - before) / Math.sqrt(1 / wb + 1 / wa);
+      if (z > 8 && Math.abs(after / before - 1) * 100 >= minPct && (best === null || z > best.z)) best = { t: tb, z, before, after };
+    }
+    if (best === null) break;
+    const at = locateStep(rows, g, ba, best.t - 1.5 * windowS, best.t + 1.5 * windowS, best.before, best.after);
     // Size from the window groups (acceleration-based scales); time from the velocity-mismatch split.
-    steps.push({ ...at, before: c.before, after: c.after, stepPct: (c.after / c.before - 1) * 100 });
+    steps.push({ ...at, before: best.before, after: best.after, stepPct: (best.after / best.before - 1) * 100 });
   }
   return steps.sort((x, y) => x.t - y.t);
 }
