@@ -6,8 +6,8 @@ import pino from 'pino';
 import { loadConfig } from '@plumbline/config';
 import { createBlobStore, createStore, openDatabase } from '@plumbline/store';
 import { createQueue } from '@plumbline/queue';
-import { analyzeBundle } from '@plumbline/analysis';
 import { startWorker } from './worker.ts';
+import { createThreadedAnalyze } from './threaded-analyze.ts';
 
 const config = loadConfig();
 const logger = pino({ level: config.logLevel, base: { service: 'worker' } });
@@ -18,13 +18,15 @@ if (!config.redisUrl) {
 const db = openDatabase(config.dbPath);
 const store = createStore(db);
 const queue = createQueue({ redisUrl: config.redisUrl }, db);
+// The analysis runs in worker threads so lease renewals and webhook deliveries keep running during long jobs.
+const threads = createThreadedAnalyze(config.workerConcurrency);
 const worker = await startWorker(config, {
   store,
   blobs: createBlobStore(config.blobDir),
   queue,
   logger,
   clock: { now: () => new Date() },
-  analyze: (path, policy) => analyzeBundle(path, policy),
+  analyze: threads.analyze,
 });
 logger.info({ concurrency: config.workerConcurrency }, 'worker started');
 
@@ -36,6 +38,7 @@ for (const signal of ['SIGINT', 'SIGTERM'] as const) {
     logger.info({ signal }, 'stopping: finishing jobs in flight');
     void (async () => {
       await worker.close();
+      await threads.close();
       await queue.close();
       db.close();
       process.exit(0);

@@ -2,9 +2,8 @@ import { existsSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
 import { loadConfig } from '@plumbline/config';
 import { createLogger, openResources, startServer, DEFAULT_DASHBOARD_DIR } from '@plumbline/api';
-import { startEmbeddedWorker } from '@plumbline/worker';
+import { createThreadedAnalyze, startEmbeddedWorker } from '@plumbline/worker';
 import { EXIT, parseFlags, type Command } from '../args.ts';
-import { analyze } from '../analysis.ts';
 import { ensureDemoTokens } from '../demo-tokens.ts';
 import { findSeeds, loadSeeds } from '../seeds.ts';
 import { runNodeScript } from './simulate.ts';
@@ -42,18 +41,19 @@ export const serveCommand: Command = {
     }
     const res = openResources(config, logger);
     const { deps } = res;
-    const worker =
-      config.mode === 'embedded'
-        ? await startEmbeddedWorker(config, {
-            store: deps.store,
-            blobs: deps.blobs,
-            queue: deps.queue,
-            logger,
-            clock: deps.clock,
-            analyze,
-            onJobFinished: (s, outcome) => deps.metrics?.jobDuration.observe({ outcome }, s),
-          })
-        : null;
+    // Analysis in worker threads: the CPU-bound work never blocks the HTTP event loop of this process.
+    const threads = config.mode === 'embedded' ? createThreadedAnalyze(config.workerConcurrency) : null;
+    const worker = threads
+      ? await startEmbeddedWorker(config, {
+          store: deps.store,
+          blobs: deps.blobs,
+          queue: deps.queue,
+          logger,
+          clock: deps.clock,
+          analyze: threads.analyze,
+          onJobFinished: (s, outcome) => deps.metrics?.jobDuration.observe({ outcome }, s),
+        })
+      : null;
     const { app, url } = await startServer(config, deps);
     const publicUrl = config.publicUrl ?? url;
     say(`Plumbline listening on ${url} (${config.mode} mode${worker ? `, worker concurrency ${config.workerConcurrency}` : ''})`);
@@ -64,6 +64,7 @@ export const serveCommand: Command = {
       logger.info({ signal }, 'shutting down');
       await app.close();
       await worker?.close();
+      await threads?.close();
       await res.close();
       process.exit(EXIT.ok);
     };

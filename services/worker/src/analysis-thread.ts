@@ -1,0 +1,36 @@
+/**
+ * Runs inside a worker thread: analyses bundles on request so the CPU-bound analysis never blocks the event loop of
+ * the process that serves HTTP. Messages: `{ id, path, policy }` in; `{ id, report }` or `{ id, error }` out.
+ */
+import { parentPort } from 'node:worker_threads';
+import { analyzeBundle } from '@plumbline/analysis';
+import type { Policy } from '@plumbline/contracts';
+
+export interface ThreadRequest {
+  id: number;
+  path: string;
+  policy: Policy;
+}
+
+/** An error as it crosses the thread boundary; bundle errors keep their code and location. */
+export interface ThreadError {
+  name: string;
+  message: string;
+  code?: string;
+  file?: string | null;
+  line?: number | null;
+  column?: number | null;
+}
+
+const port = parentPort;
+if (!port) throw new Error('analysis-thread.ts must run in a worker thread');
+port.on('message', (req: ThreadRequest) => {
+  analyzeBundle(req.path, req.policy).then(
+    (report) => port.postMessage({ id: req.id, report }),
+    (err: unknown) => {
+      const e = err as Error & Omit<ThreadError, 'name' | 'message'>;
+      const error: ThreadError = { name: e.name ?? 'Error', message: e.message ?? String(err), code: e.code, file: e.file, line: e.line, column: e.column };
+      port.postMessage({ id: req.id, error });
+    },
+  );
+});
