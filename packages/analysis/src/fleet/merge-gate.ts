@@ -1,7 +1,7 @@
 /**
  * Merge gate: whether a run may be merged into the map, under a policy, given its report and latest review.
  *
- * Rules (docs/merge-gate.md):
+ * Rules (docs/fleet.md):
  * 1. A run without a current report (not analysed, failed, rejected) is `not-analysed`: not ready.
  * 2. Flag severities are re-evaluated under the requested policy's thresholds (measured value vs warn/critical);
  *    without a policy the report's severities stand. The verdict is the worst severity (critical → unfit,

@@ -7,7 +7,7 @@ import { createPolicyLookup, policyOrThrow, thresholdsForRun } from './fleet-com
 
 /**
  * Merge gate for integrators: for each run, merge-ready or not under a policy, with reasons, segments to cut and
- * time ranges to keep. The rules are those of `mergeGate` (packages/analysis/src/fleet/merge-gate.ts, docs/merge-gate.md).
+ * time ranges to keep. The rules are those of `mergeGate` (packages/analysis/src/fleet/merge-gate.ts, docs/fleet.md).
  */
 export function registerMergeGateRoutes(ctx: ApiContext): void {
   const { store } = ctx.deps;
