@@ -38,7 +38,8 @@ export async function seedQueuedRuns(store: Store, blobDir: string, queue: JobQu
   const ids: string[] = [];
   for (let i = 0; i < n; i++) {
     const runId = `${prefix}-${String(i).padStart(3, '0')}`;
-    const blob = await blobs.writeStream([await smallBundle(runId)], { maxBytes: 1 << 24 });
+    const bytes = await smallBundle(runId);
+    const blob = await blobs.writeStream((async function* () { yield bytes; })(), { maxBytes: 1 << 24 });
     const { run } = store.runs.create({ robot_id: 'kestrel-01', run_id: runId, site: 'harbourside-depot', started_at: '2026-11-30T06:00:00Z', sha256: blob.sha256, size_bytes: blob.sizeBytes, manifest: manifest(runId) as never });
     await requestAnalysis(store, queue, run.id);
     ids.push(run.id);
