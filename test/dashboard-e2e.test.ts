@@ -214,6 +214,9 @@ describe.skipIf(!haveBrowser)('dashboard end to end', () => {
     expect(await page.textContent('.caution')).toContain('decision support');
     expect(await page.textContent('.estimates')).toMatch(/±/);
     expect(await page.textContent('.estimates')).toContain('not observable');
+    const integrity = await page.textContent('.integrity');
+    expect(integrity).toContain('imu.csv');
+    expect(integrity).toContain(String(200 * scaleRun.durationS)); // fixture IMU: 200 Hz over the whole run
     await page.screenshot({ path: join(ARTIFACTS, 'dashboard-run.png'), fullPage: true });
   });
 

@@ -6,6 +6,7 @@ import { h } from '../dom.ts';
 import { DECISION_STYLE, fmtDistance, fmtDuration, fmtTimestamp } from '../format.ts';
 import { severityBadge, verdictBadge } from './badges.ts';
 import { renderEstimates } from './estimates.ts';
+import { renderIntegrity } from './integrity.ts';
 import { filterFromParams, rememberOpened } from './queue-view.ts';
 import { createDraft } from './review-draft.ts';
 import { renderReviewPanel } from './review-panel.ts';
@@ -111,7 +112,7 @@ export async function renderRun(ctx: AppContext, id: string): Promise<View> {
   const mapHeight = Math.round(Math.min(460, Math.max(300, window.innerHeight * 0.42)));
   const mapCard = h('section', { class: 'card map-card' }, h('h2', {}, 'Map ', h('span', { class: 'muted small' }, '(top-down · drag to pan, wheel to zoom, double-click to fit)')), createMapView(report, cursor, mapHeight), legend(report));
   const plotCard = h('section', { class: 'card' }, h('h2', {}, 'Signals over run time ', h('span', { class: 'muted small' }, '(hover or click to follow one moment on the map and every plot; hatched = flagged)')), renderPlots(report, cursor));
-  const side = h('aside', { class: 'run-side' }, caution, h('section', { class: 'card' }, h('h2', {}, `Flags (${report.flags.length})`), flags.el), panel.el, renderEstimates(report), downloads(ctx, detail));
+  const side = h('aside', { class: 'run-side' }, caution, h('section', { class: 'card' }, h('h2', {}, `Flags (${report.flags.length})`), flags.el), panel.el, renderEstimates(report), renderIntegrity(report), downloads(ctx, detail));
   el = h('section', { class: 'run' }, nav, header(detail), h('div', { class: 'run-grid' }, h('div', { class: 'run-main' }, mapCard, plotCard), side));
   const nudge = (dir: number, coarse: boolean): boolean => {
     const d = report.run.duration_s;
