@@ -16,6 +16,7 @@ import { analyzeBundle, originalTrajectoryCsv, repairedTrajectoryCsv } from '@pl
 import { inspectBundle } from '@plumbline/bundle';
 import type { JobQueue } from '@plumbline/queue';
 import { startWorker } from '../services/worker/src/worker.ts';
+import { createThreadedAnalyze } from '../services/worker/src/threaded-analyze.ts';
 import { createTestApp } from '../services/api/src/testing.ts';
 import { pushBundle } from '../services/cli/src/push-client.ts';
 
@@ -76,7 +77,12 @@ async function until<T>(what: string, f: () => Promise<T | null | undefined> | T
 }
 
 /** Runs the whole flow; `makeQueue` gives the queue under test (embedded when absent). */
-export async function runServiceFlow(opts: { makeQueue?: (db: import('@plumbline/store').Db) => JobQueue; label: string }): Promise<void> {
+export async function runServiceFlow(opts: {
+  makeQueue?: (db: import('@plumbline/store').Db) => JobQueue;
+  label: string;
+  /** Analyse in a worker thread, as `plumbline serve` and the standalone worker do. */
+  threaded?: boolean;
+}): Promise<void> {
   const bundle = await simulateBundle(`e2e-${opts.label}`);
   const receiver = await startReceiver();
   const t = await createTestApp({
@@ -85,13 +91,14 @@ export async function runServiceFlow(opts: { makeQueue?: (db: import('@plumbline
     clock: { now: () => new Date() },
     deps: { trajectoryCsv: (path, variant) => (variant === 'repaired' ? repairedTrajectoryCsv(path) : originalTrajectoryCsv(path)) },
   });
+  const threads = opts.threaded ? createThreadedAnalyze(1) : null;
   const worker = await startWorker(t.config, {
     store: t.store,
     blobs: t.blobs,
     queue: t.queue,
     logger: pino({ level: 'silent' }),
     clock: { now: () => new Date() },
-    analyze: (path, policy) => analyzeBundle(path, policy),
+    analyze: threads ? threads.analyze : (path, policy) => analyzeBundle(path, policy),
     dispatcherIntervalMs: 50,
   });
   try {
@@ -158,6 +165,7 @@ export async function runServiceFlow(opts: { makeQueue?: (db: import('@plumbline
     expect(deliveries).toHaveLength(2);
   } finally {
     await worker.close();
+    await threads?.close();
     await t.close();
     await receiver.close();
     await bundle.cleanup();
