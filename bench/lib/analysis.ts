@@ -1,0 +1,52 @@
+/**
+ * Shift analysis against its baseline, each side in a fresh child process: `readBundle` alone (read + gunzip +
+ * parse into columns) and `analyzeBundle` (the same read plus the whole analysis). Memory: the child's maxRSS from
+ * process.resourceUsage() and the V8 heap peak from --trace-gc, against the byte size of the parsed columns.
+ */
+import { heapPeakFromTraceGc, markedJson, runChild } from './children.ts';
+
+export interface AnalysisSide {
+  seconds: number;
+  maxRssBytes: number;
+  heapPeakBytes: number | null;
+}
+
+export interface ShiftAnalysisResult {
+  counts: { imu: number; odometry: number; gnss: number; loops: number };
+  columnarBytes: number;
+  read: AnalysisSide;
+  analyze: AnalysisSide & { verdict: string; flags: number };
+  /** analyze seconds ÷ read seconds */
+  timeRatio: number;
+  /** analyze maxRSS ÷ columnar bytes */
+  rssRatio: number;
+}
+
+interface ChildOut {
+  seconds: number;
+  maxRssBytes: number;
+  columnarBytes?: number;
+  counts?: ShiftAnalysisResult['counts'];
+  verdict?: string;
+  flags?: number;
+}
+
+async function side(mode: 'read' | 'analyze', bundle: string): Promise<ChildOut & { heapPeakBytes: number | null }> {
+  const run = await runChild('analysis-child.ts', [mode, bundle], ['--trace-gc']);
+  if (run.code !== 0) throw new Error(`analysis child (${mode}) exited with ${run.code}:\n${run.stderr.slice(-2000)}`);
+  return { ...markedJson<ChildOut>(run, 'BENCH_RESULT'), heapPeakBytes: heapPeakFromTraceGc(run.stdout) };
+}
+
+export async function benchShiftAnalysis(bundle: string): Promise<ShiftAnalysisResult> {
+  const read = await side('read', bundle);
+  const analyze = await side('analyze', bundle);
+  const columnarBytes = read.columnarBytes ?? 0;
+  return {
+    counts: read.counts ?? { imu: 0, odometry: 0, gnss: 0, loops: 0 },
+    columnarBytes,
+    read: { seconds: read.seconds, maxRssBytes: read.maxRssBytes, heapPeakBytes: read.heapPeakBytes },
+    analyze: { seconds: analyze.seconds, maxRssBytes: analyze.maxRssBytes, heapPeakBytes: analyze.heapPeakBytes, verdict: analyze.verdict ?? '', flags: analyze.flags ?? 0 },
+    timeRatio: analyze.seconds / read.seconds,
+    rssRatio: analyze.maxRssBytes / columnarBytes,
+  };
+}
