@@ -275,6 +275,8 @@ describe.skipIf(!haveBrowser)('dashboard end to end', () => {
     const runId = await page.evaluate(() => decodeURIComponent(location.hash.split('/')[2] ?? ''));
     await page.keyboard.press('t');
     expect(await page.isChecked('#decision-accept-trimmed')).toBe(true);
+    expect(await page.isVisible('.trim-note')).toBe(true);
+    expect(await page.textContent('.trim-note')).toMatch(/^Trimmed merge cuts 2 segments .* % of the \d+ m path stays\.$/);
     await page.keyboard.press(']');
     await page.keyboard.press('u');
     const firstFlag = await page.$eval('ol.flags li', (li) => li.getAttribute('data-flag'));

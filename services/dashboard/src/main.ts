@@ -3,6 +3,7 @@ import type { AppContext, View } from './app-context.ts';
 import { h, mount } from './dom.ts';
 import { createHelpOverlay, isTyping } from './keyboard.ts';
 import { renderFleet } from './views/fleet-view.ts';
+import { renderMaintenance } from './views/maintenance-view.ts';
 import { renderLogin } from './views/login-view.ts';
 import { renderQueue } from './views/queue-view.ts';
 import { renderRun } from './views/run-view.ts';
@@ -17,6 +18,7 @@ const nav = h(
   { 'aria-label': 'Main' },
   h('a', { href: '#/queue', 'data-nav': 'queue' }, 'Review queue'),
   h('a', { href: '#/fleet', 'data-nav': 'fleet' }, 'Fleet'),
+  h('a', { href: '#/maintenance', 'data-nav': 'maintenance' }, 'Maintenance & policy'),
 );
 const header = h(
   'header',
@@ -103,6 +105,7 @@ async function route(): Promise<void> {
       });
     } else if (page === 'runs' && parts[1]) view = await renderRun(ctx, decodeURIComponent(parts[1]));
     else if (page === 'fleet') view = await renderFleet(ctx);
+    else if (page === 'maintenance') view = await renderMaintenance(ctx);
     else view = await renderQueue(ctx, new URLSearchParams(query));
     if (seq !== routeSeq) return;
     current = view;

@@ -1,7 +1,7 @@
-import { RunDecision, type AuditEntry, type Review } from '@plumbline/contracts';
+import { RunDecision, type AuditEntry, type Review, type Segment } from '@plumbline/contracts';
 import type { AppContext } from '../app-context.ts';
 import { h, mount } from '../dom.ts';
-import { DECISION_STYLE, fmtTimestamp } from '../format.ts';
+import { DECISION_STYLE, fmtDuration, fmtTimestamp } from '../format.ts';
 import { draftToInput, type ReviewDraft } from './review-draft.ts';
 
 export interface ReviewPanel {
@@ -29,8 +29,33 @@ function auditItem(a: AuditEntry): HTMLElement {
   return h('li', {}, h('span', { class: 'mono small' }, fmtTimestamp(a.at)), ` ${a.actor} — ${a.action}`, detail ? h('span', { class: 'muted small' }, ` (${detail})`) : null);
 }
 
+/**
+ * What a trimmed merge would cut: the warning and critical segments, with the share of the path that stays.
+ * Info-only segments are not cut (they carry no finding that makes the map wrong).
+ */
+export function trimSummary(segments: readonly Segment[], distanceM: number): string {
+  const cut = segments.filter((s) => s.severity !== 'info');
+  if (cut.length === 0) return 'Trimmed merge: no warning or critical segment to cut; this equals accepting the run.';
+  const cutM = cut.reduce((m, s) => m + Math.max(0, s.distance_end_m - s.distance_start_m), 0);
+  const kept = distanceM > 0 ? Math.max(0, 100 * (1 - cutM / distanceM)) : 0;
+  const list = cut.map((s) => `${fmtDuration(s.t_start)}–${fmtDuration(s.t_end)}`).join(', ');
+  return `Trimmed merge cuts ${cut.length} segment${cut.length > 1 ? 's' : ''} (${list}); ${kept.toFixed(0)} % of the ${distanceM.toFixed(0)} m path stays.`;
+}
+
 /** Decision, note and save; then the run's previous reviews and its audit history (both reloaded after saving). */
-export function renderReviewPanel(ctx: AppContext, runId: string, draft: ReviewDraft, reviews: Review[], audit: AuditEntry[], onSaved: (r: Review) => void = () => {}): ReviewPanel {
+export function renderReviewPanel(
+  ctx: AppContext,
+  runId: string,
+  draft: ReviewDraft,
+  history: { reviews: Review[]; audit: AuditEntry[] },
+  trim: string | null,
+  onSaved: (r: Review) => void = () => {},
+): ReviewPanel {
+  const { reviews, audit } = history;
+  const trimNote = h('p', { class: 'small trim-note', hidden: true }, trim ?? '');
+  const showTrim = (d: RunDecision): void => {
+    trimNote.hidden = !(d === 'accept-trimmed' && trim);
+  };
   const radios = new Map<RunDecision, HTMLInputElement>();
   const choices = h(
     'fieldset',
@@ -38,7 +63,10 @@ export function renderReviewPanel(ctx: AppContext, runId: string, draft: ReviewD
     h('legend', {}, 'Decision on the run'),
     ...RunDecision.options.map((d) => {
       const input = h('input', { type: 'radio', name: 'decision', value: d, id: `decision-${d}` });
-      input.addEventListener('change', () => (draft.decision = d));
+      input.addEventListener('change', () => {
+        draft.decision = d;
+        showTrim(d);
+      });
       radios.set(d, input);
       return h('label', { for: `decision-${d}`, class: 'decision' }, input, ` ${DECISION_STYLE[d].label} `, h('kbd', {}, DECISION_STYLE[d].key));
     }),
@@ -82,7 +110,7 @@ export function renderReviewPanel(ctx: AppContext, runId: string, draft: ReviewD
     }
   }
 
-  const form = h('form', { class: 'review-form', 'aria-label': 'Review' }, choices, note, h('div', { class: 'row' }, saveBtn, result));
+  const form = h('form', { class: 'review-form', 'aria-label': 'Review' }, choices, trimNote, note, h('div', { class: 'row' }, saveBtn, result));
   form.addEventListener('submit', (ev) => {
     ev.preventDefault();
     void save();
@@ -99,6 +127,7 @@ export function renderReviewPanel(ctx: AppContext, runId: string, draft: ReviewD
     el,
     setDecision(d) {
       draft.decision = d;
+      showTrim(d);
       const r = radios.get(d);
       if (r) r.checked = true;
     },

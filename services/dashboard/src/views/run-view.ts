@@ -9,7 +9,7 @@ import { renderEstimates } from './estimates.ts';
 import { renderIntegrity } from './integrity.ts';
 import { filterFromParams, rememberOpened } from './queue-view.ts';
 import { createDraft } from './review-draft.ts';
-import { renderReviewPanel } from './review-panel.ts';
+import { renderReviewPanel, trimSummary } from './review-panel.ts';
 import { renderFlagList } from './run-flags.ts';
 import { renderPlots } from './run-plots.ts';
 
@@ -100,7 +100,8 @@ export async function renderRun(ctx: AppContext, id: string): Promise<View> {
     if (dd) dd.textContent = `${DECISION_STYLE[r.decision].label} (${fmtTimestamp(r.created_at)})`;
     ctx.announce(`Review saved: ${detail.summary.robot_id} · ${detail.summary.run_id}`);
   };
-  const panel = renderReviewPanel(ctx, id, draft, detail.reviews, audit, onSaved);
+  const trim = report ? trimSummary(report.segments, report.run.distance_m) : null;
+  const panel = renderReviewPanel(ctx, id, draft, { reviews: detail.reviews, audit }, trim, onSaved);
   if (!report) {
     const why = detail.summary.status_reason ? `: ${detail.summary.status_reason}` : '';
     el = h('section', { class: 'run' }, nav, header(detail), caution, h('p', { class: 'card' }, `No report yet (status ${detail.summary.status}${why}).`), panel.el);

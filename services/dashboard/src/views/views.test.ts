@@ -2,6 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { buildFixtureReport } from '../../dev/fixture-report.ts';
 import { filterFromParams } from './queue-view.ts';
 import { scoreTrend } from './fleet-view.ts';
+import { trimSummary } from './review-panel.ts';
 import { createDraft, draftToInput } from './review-draft.ts';
 import { labelFor, plotPlan } from './run-plots.ts';
 
@@ -82,5 +83,17 @@ describe('fleet score trend', () => {
     expect(scoreTrend([100, 100, 90])).toBe('worsening');
     expect(scoreTrend([80, 84])).toBe('steady');
     expect(scoreTrend([70])).toBe('none');
+  });
+});
+
+describe('trimmed merge summary', () => {
+  const seg = (severity: 'info' | 'warn' | 'critical', t0: number, t1: number, d0: number, d1: number) => ({ id: 's', t_start: t0, t_end: t1, distance_start_m: d0, distance_end_m: d1, severity, kinds: [], flag_ids: [] });
+  it('lists the warning and critical segments and the share of path kept', () => {
+    expect(trimSummary([seg('critical', 60, 100, 36, 65), seg('info', 0, 10, 0, 5), seg('warn', 130, 150, 90, 101)], 200)).toBe(
+      'Trimmed merge cuts 2 segments (1:00–1:40, 2:10–2:30); 80 % of the 200 m path stays.', // (29 + 11) m of 200 m cut
+    );
+  });
+  it('says when there is nothing to cut', () => {
+    expect(trimSummary([seg('info', 0, 10, 0, 5)], 200)).toContain('no warning or critical segment');
   });
 });
