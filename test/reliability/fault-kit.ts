@@ -29,7 +29,7 @@ export interface DataDir {
 
 export async function makeDataDir(label: string): Promise<DataDir> {
   const dir = await mkdtemp(join(tmpdir(), `plumbline-${label}-`));
-  return { dir, dbPath: join(dir, 'plumbline.db'), blobDir: join(dir, 'blobs') };
+  return { dir, dbPath: join(dir, 'plumbline.sqlite'), blobDir: join(dir, 'blobs') };
 }
 
 /** Stores `n` runs and enqueues their analysis on `queue`; returns the run ids. */
