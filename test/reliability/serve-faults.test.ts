@@ -95,7 +95,7 @@ describe('graceful shutdown on SIGTERM', () => {
     const server = await serve(data, port);
     const base = `http://127.0.0.1:${port}`;
     // A queued analysis, so the worker has something in hand when the signal arrives.
-    const queued = await fetch(`${base}/api/v1/runs`, { method: 'POST', headers: { authorization: `Bearer ${robot}`, 'content-type': 'application/gzip' }, body: await smallBundle('before-sigterm') });
+    const queued = await fetch(`${base}/api/v1/runs`, { method: 'POST', headers: { authorization: `Bearer ${robot}`, 'content-type': 'application/gzip' }, body: new Uint8Array(await smallBundle('before-sigterm')) });
     expect(queued.status).toBe(201);
     const bytes = await smallBundle('in-flight-at-sigterm');
     const open = await fetch(`${base}/api/v1/uploads`, {
