@@ -73,9 +73,42 @@ export function createRunRepository(db: Db): RunRepository {
     return { run: get(id) as RunSummary, created: true };
   });
 
+  // List statements prepared once per SQL text (a filter/sort/cursor combination), bounded.
+  const listStatements = new Map<string, ReturnType<Db['prepare']>>();
+  const prepared = (sql: string) => {
+    let st = listStatements.get(sql);
+    if (!st) {
+      if (listStatements.size >= 256) listStatements.clear();
+      st = db.prepare(sql);
+      listStatements.set(sql, st);
+    }
+    return st;
+  };
+  // First-page totals are cached until the database changes: `data_version` moves when another connection commits,
+  // `total_changes()` when this one writes. Counting a filter over 100k runs costs far more than the page itself.
+  const dataVersion = db.prepare('PRAGMA data_version').pluck();
+  const ownChanges = db.prepare('SELECT total_changes()').pluck();
+  let totalsAt = '';
+  const totals = new Map<string, number>();
+  const countOf = (sql: string, params: unknown[]): number => {
+    const at = `${dataVersion.get() as number}:${ownChanges.get() as number}`;
+    if (at !== totalsAt) {
+      totals.clear();
+      totalsAt = at;
+    }
+    const key = `${sql}\u0000${JSON.stringify(params)}`;
+    let n = totals.get(key);
+    if (n === undefined) {
+      if (totals.size >= 256) totals.clear();
+      n = prepared(`SELECT count(*) FROM runs WHERE ${sql}`).pluck().get(...params) as number;
+      totals.set(key, n);
+    }
+    return n;
+  };
+
   const list = (query: RunListQuery): RunListPage => {
     const page = buildListSql(query, RUN_COLUMNS);
-    const rows = db.prepare(page.sql).all(...page.params) as (RunRow & Record<string, unknown>)[];
+    const rows = prepared(page.sql).all(...page.params) as (RunRow & Record<string, unknown>)[];
     const more = rows.length > query.limit;
     const items = more ? rows.slice(0, query.limit) : rows;
     const last = items.at(-1);
@@ -85,7 +118,7 @@ export function createRunRepository(db: Db): RunRepository {
     let total: number | null = null;
     if (query.cursor === undefined) {
       const filter = runFilter(query);
-      total = db.prepare(`SELECT count(*) FROM runs WHERE ${filter.sql}`).pluck().get(...filter.params) as number;
+      total = countOf(filter.sql, filter.params);
     }
     return { items: items.map(toRunSummary), next_cursor: next, total };
   };

@@ -1,0 +1,56 @@
+import { mkdtemp, rm } from 'node:fs/promises';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { RunListQuery } from '@plumbline/contracts';
+import { afterEach, beforeEach, describe, expect, it } from 'vitest';
+import { openDatabase } from './database.ts';
+import { createStore } from './store.ts';
+import { runInput } from './testing/fixtures.ts';
+import type { Db } from './types.ts';
+
+/**
+ * The first-page `total` of the run list is cached per filter until the database changes; these cases check that
+ * every kind of change is seen: a write through the same connection, a write by another connection (another
+ * process in production: API and workers share the file), and a write outside the repository.
+ */
+let dir: string;
+let dbs: Db[];
+beforeEach(async () => {
+  dir = await mkdtemp(join(tmpdir(), 'plumbline-total-'));
+  dbs = [];
+});
+afterEach(async () => {
+  for (const d of dbs) d.close();
+  await rm(dir, { recursive: true, force: true });
+});
+function open(): Db {
+  const d = openDatabase(join(dir, 'plumbline.sqlite'));
+  dbs.push(d);
+  return d;
+}
+const byRobot = RunListQuery.parse({ robot_id: 'kestrel-01' });
+
+describe('run list total after writes', () => {
+  it('follows writes by the same connection', () => {
+    const store = createStore(open());
+    store.runs.create(runInput(0, { robot_id: 'kestrel-01' }));
+    expect(store.runs.list(byRobot).total).toBe(1);
+    store.runs.create(runInput(1, { robot_id: 'kestrel-01' }));
+    store.runs.create(runInput(2, { robot_id: 'plover-01' }));
+    expect(store.runs.list(byRobot).total).toBe(2);
+    expect(store.runs.list(RunListQuery.parse({})).total).toBe(3);
+  });
+
+  it('follows commits of another connection and raw SQL writes', () => {
+    const a = createStore(open());
+    const db2 = open();
+    const b = createStore(db2);
+    a.runs.create(runInput(0, { robot_id: 'kestrel-01' }));
+    expect(a.runs.list(byRobot).total).toBe(1);
+    b.runs.create(runInput(1, { robot_id: 'kestrel-01' }));
+    expect(a.runs.list(byRobot).total).toBe(2);
+    db2.prepare("DELETE FROM runs WHERE robot_id = 'kestrel-01' AND run_id = ?").run(runInput(1, {}).run_id);
+    expect(a.runs.list(byRobot).total).toBe(1);
+    expect(b.runs.list(byRobot).total).toBe(1);
+  });
+});
