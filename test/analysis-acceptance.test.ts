@@ -116,6 +116,32 @@ describe('demo fleet (seed-runs/)', () => {
   });
 });
 
+describe('false loops and GNSS divergence on more simulated runs', () => {
+  const run = (seed: number, faults: Parameters<typeof makeRunSpec>[0]['faults']) => {
+    const sim = simulateRun(makeRunSpec({ seed, durationS: 150, site: 'northgate-yard', robotId: 'heron-01', faults }));
+    return analyzeRunDetailed({ manifest: RunManifest.parse(sim.manifest), imu: sim.imu, odometry: sim.odometry, gnss: sim.gnss, loops: sim.loops }).report;
+  };
+  for (const [seed, magnitude, startS] of [[31, 6, 30], [32, 10, 60]] as const) {
+    it(`excludes a false loop of ≥ ${magnitude} m near ${startS} s and keeps the true ones (seed ${seed})`, () => {
+      const rep = run(seed, [{ kind: 'loop-mismatch', magnitude, startS }]);
+      const excluded = rep.loops.filter((l) => !l.accepted);
+      expect(excluded).toHaveLength(1);
+      expect(Math.abs(excluded[0]!.t_a - startS)).toBeLessThanOrEqual(1);
+      expect(rep.flags.filter((f) => f.kind === 'loop-mismatch').map((f) => f.severity)).toEqual(['critical']);
+      expect(rep.loops.filter((l) => l.accepted).length).toBeGreaterThan(0);
+    });
+  }
+  for (const [seed, startS, endS] of [[33, 40, 70], [34, 90, 120]] as const) {
+    it(`locates a 3 m GNSS divergence at ${startS}–${endS} s within 5 s (seed ${seed})`, () => {
+      const rep = run(seed, [{ kind: 'gnss-divergence', magnitude: 3, startS, endS }]);
+      const g = rep.flags.filter((f) => f.kind === 'gnss-divergence');
+      expect(g).toHaveLength(1);
+      expect(Math.abs(g[0]!.t_start - startS)).toBeLessThanOrEqual(5);
+      expect(Math.abs(g[0]!.t_end - endS)).toBeLessThanOrEqual(5);
+    });
+  }
+});
+
 /** True closure error of a loop: odometry relative pose vs the true relative pose of the odometry body (% of path). */
 function trueClosurePct(sim: ReturnType<typeof simulateRun>, iA: number, iB: number, pathLen: number): number {
   const s = sim.scenario, st = createKinState(), o = sim.odometry;

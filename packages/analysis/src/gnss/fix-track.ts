@@ -7,6 +7,8 @@ export interface FixTrack {
   u: Float64Array;
   /** 1-sigma horizontal accuracy reported with the fix, metres (NaN when unknown). */
   hacc: Float64Array;
+  /** GGA quality code of the fix. */
+  fix: Float64Array;
   /** Antenna position from odometry, odometry world frame. */
   ox: Float64Array;
   oy: Float64Array;

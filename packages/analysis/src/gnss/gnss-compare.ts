@@ -21,7 +21,10 @@ export interface GnssComparison {
   global: Alignment;
   /** Whether the alignment estimated the scale (monocular odometry) or held it at 1. */
   scaleFree: boolean;
-  /** Per good fix: horizontal and vertical residual after the local (windowed) alignment, metres. */
+  /**
+   * Per good fix: horizontal residual against the local baseline (see localDeviation) and vertical residual after
+   * the windowed alignment, metres.
+   */
   errH: Float64Array;
   errV: Float64Array;
   /** Horizontal RMS residual after the whole-run alignment, metres. */
@@ -57,7 +60,7 @@ export function buildFixTrack(
   const interp = new PoseInterpolator(odometry);
   const p = pose.create(), w = new Float64Array(3);
   const cap = gnss.n, col = () => new Float64Array(cap);
-  const full: FixTrack = { t: col(), e: col(), n: col(), u: col(), hacc: col(), ox: col(), oy: col(), oz: col() };
+  const full: FixTrack = { t: col(), e: col(), n: col(), u: col(), hacc: col(), fix: col(), ox: col(), oy: col(), oz: col() };
   let k = 0;
   for (let i = 0; i < gnss.n; i++) {
     if (!good[i] || !interp.at(p, gnss.t[i]!)) continue;
@@ -67,6 +70,7 @@ export function buildFixTrack(
     full.n[k] = allN[i]!;
     full.u[k] = allU[i]!;
     full.hacc[k] = gnss.hacc[i]!;
+    full.fix[k] = gnss.fix[i]!;
     full.ox[k] = p.t[0]! + w[0]!;
     full.oy[k] = p.t[1]! + w[1]!;
     full.oz[k] = p.t[2]! + w[2]!;
@@ -74,7 +78,7 @@ export function buildFixTrack(
   }
   const track: FixTrack = {
     t: full.t.subarray(0, k), e: full.e.subarray(0, k), n: full.n.subarray(0, k), u: full.u.subarray(0, k),
-    hacc: full.hacc.subarray(0, k), ox: full.ox.subarray(0, k), oy: full.oy.subarray(0, k), oz: full.oz.subarray(0, k),
+    hacc: full.hacc.subarray(0, k), fix: full.fix.subarray(0, k), ox: full.ox.subarray(0, k), oy: full.oy.subarray(0, k), oz: full.oz.subarray(0, k),
   };
   return { origin, track, allE, allN, allU };
 }
@@ -83,8 +87,9 @@ export function buildFixTrack(
  * Compares odometry with GNSS: gates fixes, converts them to ENU at the first good fix (WGS-84, geometry geodesy),
  * moves the odometry to the antenna (lever arm from the manifest rotated by the body attitude), aligns odometry to
  * ENU robustly (Umeyama 1991 in IRLS with a Huber kernel; yaw-only for gravity-aligned odometry, scale free only
- * for monocular odometry) over the whole run and over sliding windows, and reports `gnss-divergence` findings
- * where the windowed residual stays at or above the policy warning level. Units metres, times epoch seconds.
+ * for monocular odometry) over the whole run, and reports `gnss-divergence` findings where the residual departs from
+ * its running median by at least the policy warning level for a few seconds. Sliding-window alignments give the
+ * heading offset per window (odometry heading drift) and vertical residuals. Units metres, times epoch seconds.
  */
 export function compareWithGnss(
   manifest: RunManifest, odometry: OdometryColumns, gnss: GnssColumns, th: PolicyThresholds,
@@ -106,8 +111,9 @@ export function compareWithGnss(
   for (let j = 0; j < k; j++) ss += global.resH[j]! ** 2;
   const rmseH = Math.sqrt(ss / k);
   const local = windowedResiduals(track, opts, global.scale, Math.max(120, 12 * th.window_s));
-  const findings = divergenceFindings(track, local.errH, th['gnss-divergence'].warn ?? Number.POSITIVE_INFINITY);
-  return { ok: true, origin: built.origin, gating, allE: built.allE, allN: built.allN, allU: built.allU, track, global, scaleFree: manifest.odometry.monocular, errH: local.errH, errV: local.errV, rmseH, windowT: local.windowT, windowHeadingDeg: local.headingDeg, findings };
+  const dev = localDeviation(track.t, global.resE, global.resN, BASELINE_HALF_S);
+  const findings = divergenceFindings(track, global, th['gnss-divergence'].warn ?? Number.POSITIVE_INFINITY);
+  return { ok: true, origin: built.origin, gating, allE: built.allE, allN: built.allN, allU: built.allU, track, global, scaleFree: manifest.odometry.monocular, errH: dev, errV: local.errV, rmseH, windowT: local.windowT, windowHeadingDeg: local.headingDeg, findings };
 }
 
 /**
@@ -144,35 +150,82 @@ function windowedResiduals(track: FixTrack, opts: UmeyamaOptions, scale: number,
   return { errH, errV, windowT: Float64Array.from(windowT), headingDeg: Float64Array.from(headingDeg) };
 }
 
-/** Multipath episodes last a few seconds; a disagreement must persist longer to count (common practice). */
-const MIN_DIVERGENCE_S = 4;
+/** Half-width of the running-median baseline of the residuals, seconds (divergences up to ~75 s stand out). */
+const BASELINE_HALF_S = 75;
 
 /**
- * Runs of fixes whose residual is at or above `level` and at least twice the fix's own stated 1-sigma accuracy
- * (gaps < 2 s bridged, lasting at least MIN_DIVERGENCE_S): value = median residual of the run.
+ * Deviation of each fix's horizontal residual vector from its running median over ±halfS (per component, sampled
+ * once a second). Odometry drift bends the residual slowly and stays near the median; a GNSS disagreement appears
+ * as a step that lasts less than half the window and stands out in full. O(n + s·w log w) for s seconds of run.
  */
-function divergenceFindings(track: FixTrack, errH: Float64Array, level: number): InertialFinding[] {
-  const t = track.t;
-  const out: InertialFinding[] = [];
-  let start = -1, last = -1;
-  const vals: number[] = [];
-  const close = () => {
-    if (start >= 0 && vals.length >= 3 && t[last]! - t[start]! >= MIN_DIVERGENCE_S) {
-      vals.sort((x, y) => x - y);
-      const med = vals[vals.length >> 1]!;
-      out.push({ kind: 'gnss-divergence', tStart: t[start]!, tEnd: t[last]!, value: med, unit: 'm', detail: `${vals.length} fixes disagree with odometry` });
+function localDeviation(t: Float64Array, re: Float64Array, rn: Float64Array, halfS: number): Float64Array {
+  const k = t.length, out = new Float64Array(k);
+  if (k === 0) return out;
+  const t0 = t[0]!, nSec = Math.floor(t[k - 1]! - t0) + 1;
+  // One residual per second (the first fix of each second) keeps the medians cheap.
+  const secE = new Float64Array(nSec).fill(Number.NaN), secN = new Float64Array(nSec).fill(Number.NaN);
+  for (let j = 0; j < k; j++) {
+    const s = Math.floor(t[j]! - t0);
+    if (Number.isNaN(secE[s]!)) {
+      secE[s] = re[j]!;
+      secN[s] = rn[j]!;
     }
-    start = -1;
-    vals.length = 0;
-  };
-  for (let j = 0; j < t.length; j++) {
-    const e = errH[j]!, acc = track.hacc[j]!;
-    if (!(e >= level) || (Number.isFinite(acc) && e < 2 * acc)) continue;
-    if (start >= 0 && t[j]! - t[last]! > 2) close();
-    if (start < 0) start = j;
-    last = j;
-    vals.push(e);
   }
-  close();
+  const medE = new Float64Array(nSec), medN = new Float64Array(nSec), bufE: number[] = [], bufN: number[] = [];
+  const h = Math.round(halfS);
+  for (let s = 0; s < nSec; s++) {
+    bufE.length = 0;
+    bufN.length = 0;
+    for (let q = Math.max(0, s - h); q <= Math.min(nSec - 1, s + h); q++) {
+      if (Number.isNaN(secE[q]!)) continue;
+      bufE.push(secE[q]!);
+      bufN.push(secN[q]!);
+    }
+    bufE.sort((a, b) => a - b);
+    bufN.sort((a, b) => a - b);
+    medE[s] = bufE.length ? bufE[bufE.length >> 1]! : 0;
+    medN[s] = bufN.length ? bufN[bufN.length >> 1]! : 0;
+  }
+  for (let j = 0; j < k; j++) {
+    const s = Math.min(nSec - 1, Math.floor(t[j]! - t0));
+    out[j] = Math.hypot(re[j]! - medE[s]!, rn[j]! - medN[s]!);
+  }
   return out;
+}
+
+/** Multipath episodes last a few seconds; a disagreement must persist longer to count (common practice). */
+const MIN_DIVERGENCE_S = 4;
+/** Consecutive fixes further apart than this do not define a step (an outage in between), seconds. */
+const MAX_STEP_GAP_S = 1.5;
+
+/**
+ * Divergences as steps in the residual: a GNSS disagreement (bias, wrong fix) starts abruptly, while odometry drift
+ * bends the residual slowly. A jump of at least ¾ of the warning level between consecutive good fixes of the same
+ * solution type (a change of type, e.g. RTK to single under multipath, explains a step by itself), both with a stated
+ * accuracy below half that level when they state one, opens a divergence; it closes at the first fix whose residual
+ * is back within half the jump of the level before it, else at the last fix. Episodes shorter than MIN_DIVERGENCE_S
+ * are dropped. Value = the jump, metres.
+ */
+function divergenceFindings(track: FixTrack, a: Alignment, level: number): InertialFinding[] {
+  const t = track.t, k = t.length, minJump = 0.75 * level;
+  const out: InertialFinding[] = [];
+  for (let j = 1; j < k; j++) {
+    if (t[j]! - t[j - 1]! > MAX_STEP_GAP_S || track.fix[j] !== track.fix[j - 1]) continue;
+    const acc = Math.max(finiteOr(track.hacc[j]!, 0), finiteOr(track.hacc[j - 1]!, 0));
+    if (acc >= level / 2) continue;
+    const be = a.resE[j - 1]!, bn = a.resN[j - 1]!;
+    const size = Math.hypot(a.resE[j]! - be, a.resN[j]! - bn);
+    if (size < minJump || size < 2 * acc) continue;
+    let end = j;
+    while (end + 1 < k && Math.hypot(a.resE[end + 1]! - be, a.resN[end + 1]! - bn) >= 0.5 * size) end++;
+    if (t[end]! - t[j]! >= MIN_DIVERGENCE_S) {
+      out.push({ kind: 'gnss-divergence', tStart: t[j]!, tEnd: t[end]!, value: size, unit: 'm', detail: `${end - j + 1} fixes offset from the odometry by a step of ${size.toFixed(2)} m` });
+    }
+    j = end + 1; // continue after the episode, skipping the step back
+  }
+  return out;
+}
+
+function finiteOr(x: number, fallback: number): number {
+  return Number.isFinite(x) ? x : fallback;
 }

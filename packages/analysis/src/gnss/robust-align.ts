@@ -9,6 +9,9 @@ export interface Alignment {
   /** Residuals of the fixes in the aligned range (index 0 = first fix of the range), metres. */
   resH: Float64Array;
   resV: Float64Array;
+  /** East and north components of the residual (fix minus aligned odometry), metres. */
+  resE: Float64Array;
+  resN: Float64Array;
   /** Fixes that kept a non-zero weight. */
   inliers: number;
 }
@@ -30,7 +33,7 @@ export function robustAlign(track: FixTrack, lo: number, hi: number, opts: Umeya
     base[j] = Number.isFinite(a) ? 1 / Math.max(a, 0.05) ** 2 : 1;
   }
   const weights = Float64Array.from(base);
-  const resH = new Float64Array(m), resV = new Float64Array(m);
+  const resH = new Float64Array(m), resV = new Float64Array(m), resE = new Float64Array(m), resN = new Float64Array(m);
   let last: Alignment | null = null;
   for (let pass = 0; pass < 6; pass++) {
     const a = umeyama(src, dst, { ...opts, dims: 3, weights });
@@ -42,14 +45,16 @@ export function robustAlign(track: FixTrack, lo: number, hi: number, opts: Umeya
       const pe = c * (r[0]! * x + r[1]! * y + r[2]! * z) + t[0]!;
       const pn = c * (r[3]! * x + r[4]! * y + r[5]! * z) + t[1]!;
       const pu = c * (r[6]! * x + r[7]! * y + r[8]! * z) + t[2]!;
-      const h = Math.hypot(dst.x[j]! - pe, dst.y[j]! - pn);
+      resE[j] = dst.x[j]! - pe;
+      resN[j] = dst.y[j]! - pn;
+      const h = Math.hypot(resE[j]!, resN[j]!);
       resH[j] = h;
       resV[j] = dst.z[j]! - pu;
       const rr = Math.hypot(h, resV[j]!);
       weights[j] = base[j]! * (pass < 3 ? (rr <= kM ? 1 : kM / rr) : rr <= 2.5 * kM ? 1 : 0);
       if (weights[j]! > 0) inliers++;
     }
-    last = { r: Float64Array.from(r), t: Float64Array.from(t), scale: c, resH, resV, inliers };
+    last = { r: Float64Array.from(r), t: Float64Array.from(t), scale: c, resH, resV, resE, resN, inliers };
     if (inliers < Math.max(5, 0.3 * m)) break;
   }
   return last;
