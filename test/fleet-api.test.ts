@@ -7,7 +7,7 @@ import { afterEach, beforeEach, describe, expect, it } from 'vitest';
 import pino from 'pino';
 import { DEFAULT_POLICY, type Flag, type Report } from '@plumbline/contracts';
 import { createTestApp, type TestApp } from '../services/api/src/testing.ts';
-import { createAfterRecorded } from '../services/worker/src/fleet-hooks.ts';
+import { createAfterRecorded, withStoredPolicies } from '../services/worker/src/fleet-hooks.ts';
 import { flag, report, runInput } from '../packages/store/src/testing/fixtures.ts';
 
 let t: TestApp;
@@ -67,7 +67,35 @@ describe('POST /api/v1/merge-gate', () => {
   });
 });
 
+describe('run.merge-ready webhook', () => {
+  it('follows the merge gate: after a sound analysis and an accept, not for a trimmed run with nothing left', async () => {
+    const hook = t.store.webhooks.create({ url: 'http://127.0.0.1:9/h', events: ['run.merge-ready'], secret: 's'.repeat(20) });
+    const after = createAfterRecorded(t.store, pino({ level: 'silent' }));
+    const sound = analysed(1, withFlags([], 'sound'));
+    after(sound, new Date('2026-12-01T08:00:00Z'));
+    const whole = at(flag('units', 'critical', 1), 0, 600, 56);
+    const unusable = analysed(2, withFlags([whole], 'unfit'));
+    after(unusable, new Date('2026-12-01T08:00:00Z')); // unfit and unreviewed: not ready
+    const review = (id: string, body: object) => t.app.inject({ method: 'POST', url: `/api/v1/runs/${id}/reviews`, headers: auth('lead'), payload: body });
+    expect((await review(unusable, { decision: 'accept-trimmed' })).statusCode).toBe(201); // nothing left to keep
+    expect(t.store.webhooks.deliveries(hook.id)).toHaveLength(1);
+    expect((await review(unusable, { decision: 'accept' })).statusCode).toBe(201);
+    expect(t.store.webhooks.deliveries(hook.id).map((d) => d.event)).toEqual(['run.merge-ready', 'run.merge-ready']);
+  });
+});
+
 describe('policies', () => {
+  it('a worker resolves stored versions as name@version and bare names as the latest version', () => {
+    t.store.policies.create({ ...DEFAULT_POLICY, name: 'yard', version: '1' }, 'h1', 'admin:test');
+    t.store.policies.create({ ...DEFAULT_POLICY, name: 'yard', version: '2', thresholds: { ...DEFAULT_POLICY.thresholds, window_s: 20 } }, 'h2', 'admin:test');
+    const resolve = withStoredPolicies(t.store, (n) => (n === null || n === 'default' ? DEFAULT_POLICY : null));
+    expect(resolve('yard@1')?.thresholds.window_s).toBe(10);
+    expect(resolve('yard')?.version).toBe('2');
+    expect(resolve(null)).toBe(DEFAULT_POLICY);
+    expect(resolve('yard@3')).toBeNull();
+    expect(resolve('other')).toBeNull();
+  });
+
   it('stores versions once, applies one to past runs through the queue and lists verdicts that moved', async () => {
     const id = analysed(1, withFlags([at(flag('time-offset', 'warn', 1), 10, 20, 25)], 'doubtful'));
     const v1 = { ...DEFAULT_POLICY, name: 'yard', version: '1' };

@@ -1,5 +1,6 @@
 import { z } from 'zod';
 import { Review, ReviewInput } from '@plumbline/contracts';
+import { mergeGate } from '@plumbline/analysis';
 import type { ApiContext } from '../context.ts';
 import { errors } from '../errors.ts';
 import { actorOf } from '../plugins/auth.ts';
@@ -21,9 +22,9 @@ export function registerReviewRoutes(ctx: ApiContext): void {
       const summary = store.runs.get(run.id);
       const at = ctx.deps.clock.now();
       store.webhooks.enqueueEvent('run.reviewed', { event: 'run.reviewed', at: at.toISOString(), run: summary, review }, at);
-      if (review.decision === 'accept' || review.decision === 'accept-trimmed') {
-        store.webhooks.enqueueEvent('run.merge-ready', { event: 'run.merge-ready', at: at.toISOString(), run: summary, review }, at);
-      }
+      // Merge-ready by the merge gate's rules (an accept-trimmed run with nothing left to keep is not).
+      const gate = mergeGate({ run: run.id, status: summary?.status ?? run.status, report, review, thresholds: null });
+      if (gate.ready) store.webhooks.enqueueEvent('run.merge-ready', { event: 'run.merge-ready', at: at.toISOString(), run: summary, review, gate }, at);
       reply.code(201);
       return review;
     },
