@@ -3,6 +3,7 @@ import type { RunListPage, RunListQuery, RunStatus, RunSummary } from '@plumblin
 import { RunConflictError } from './errors.ts';
 import { RUN_COLUMNS, isoNow, toRunSummary, type RunRow } from './rows.ts';
 import { buildListSql, encodeCursor, runFilter } from './run-list.ts';
+import type { Statement } from 'better-sqlite3';
 import type { AnalysisTicket, Db, RunCreate, RunCreateResult, RunRepository } from './types.ts';
 
 function ticketOf(row: Pick<RunRow, 'id' | 'sha256' | 'job_key' | 'generation' | 'policy'>): AnalysisTicket | null {
@@ -74,12 +75,12 @@ export function createRunRepository(db: Db): RunRepository {
   });
 
   // List statements prepared once per SQL text (a filter/sort/cursor combination), bounded.
-  const listStatements = new Map<string, ReturnType<Db['prepare']>>();
+  const listStatements = new Map<string, Statement<unknown[]>>();
   const prepared = (sql: string) => {
     let st = listStatements.get(sql);
     if (!st) {
       if (listStatements.size >= 256) listStatements.clear();
-      st = db.prepare(sql);
+      st = db.prepare<unknown[]>(sql);
       listStatements.set(sql, st);
     }
     return st;
