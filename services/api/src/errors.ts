@@ -66,6 +66,7 @@ export const errors = {
   CHECKSUM_MISMATCH: createAppError('CHECKSUM_MISMATCH', 'The SHA-256 of the received bytes is %s, not the declared %s', 422),
   RATE_LIMITED: createAppError('RATE_LIMITED', 'Too many %s; retry in %s s', 429),
   NOT_READY: createAppError('NOT_READY', '%s', 503, 'Service not ready'),
+  STORAGE_FULL: createAppError('STORAGE_FULL', 'The server has no storage space left for %s; nothing was stored', 507, 'Insufficient storage'),
   POLICY_NOT_FOUND: createAppError('POLICY_NOT_FOUND', 'No policy %s', 404),
   POLICY_EXISTS: createAppError('POLICY_EXISTS', 'Policy %s version %s already exists; store changes under a new version', 409),
   INTERNAL: createAppError('INTERNAL', 'Internal error (request %s)', 500),

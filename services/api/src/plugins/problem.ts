@@ -48,6 +48,11 @@ function toAppError(err: unknown, req: FastifyRequest): AppError {
     default:
       break;
   }
+  // Storage faults are the server's, not the client's, but they are transient and say what to do: retry later.
+  if (typeof e.code === 'string' && /^SQLITE_(BUSY|LOCKED)/.test(e.code)) {
+    return errors.NOT_READY('The database is busy; retry shortly').with({ retry_after_s: 1 });
+  }
+  if (e.code === 'ENOSPC' || e.code === 'EDQUOT') return errors.STORAGE_FULL(req.method === 'GET' ? 'this request' : 'the request body');
   if (typeof e.statusCode === 'number' && e.statusCode >= 400 && e.statusCode < 500) {
     // Malformed JSON, empty body and similar request errors from fastify itself.
     return errors.VALIDATION_FAILED('request', e.message);
@@ -67,7 +72,7 @@ export function sendProblem(reply: FastifyReply, req: FastifyRequest, appErr: Ap
     request_id: String(req.id),
     ...appErr.extra,
   };
-  if (appErr.statusCode === 429 && typeof appErr.extra.retry_after_s === 'number') reply.header('retry-after', appErr.extra.retry_after_s);
+  if ((appErr.statusCode === 429 || appErr.statusCode === 503) && typeof appErr.extra.retry_after_s === 'number') reply.header('retry-after', appErr.extra.retry_after_s);
   if (appErr.statusCode === 401) reply.header('www-authenticate', 'Bearer realm="plumbline"');
   return reply.code(appErr.statusCode).type('application/problem+json').send(body);
 }
