@@ -6,7 +6,7 @@ import { beforeAll, describe, expect, it } from 'vitest';
 import { analyzeRunDetailed } from '@plumbline/analysis';
 import { RunManifest, type Report } from '@plumbline/contracts';
 import { pose, quat } from '@plumbline/geometry';
-import { createKinState, FAULT_KINDS, makeRunSpec, simulateRun } from '@plumbline/simulator';
+import { createKinState, FAULT_KINDS, makeRunSpec, simulateRun, type FaultSpec } from '@plumbline/simulator';
 import { analyseFleet, intersectionOverUnion, raised, type AnalysedRun } from './analysis-fleet.ts';
 
 /** IoU needed for a detection to count (acceptance criterion of the project). */
@@ -117,7 +117,7 @@ describe('demo fleet (seed-runs/)', () => {
 });
 
 describe('false loops and GNSS divergence on more simulated runs', () => {
-  const run = (seed: number, faults: Parameters<typeof makeRunSpec>[0]['faults']) => {
+  const run = (seed: number, faults: FaultSpec[]) => {
     const sim = simulateRun(makeRunSpec({ seed, durationS: 150, site: 'northgate-yard', robotId: 'heron-01', faults }));
     return analyzeRunDetailed({ manifest: RunManifest.parse(sim.manifest), imu: sim.imu, odometry: sim.odometry, gnss: sim.gnss, loops: sim.loops }).report;
   };
