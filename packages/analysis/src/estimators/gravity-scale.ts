@@ -23,7 +23,7 @@ export interface GravityScaleOptions {
   gravityMS2?: number;
   /** Odometry acceleration standard deviation below which scale is unobservable, m/s² (default 0.1). */
   minAccelStd?: number;
-  /** Relative scale sigma above which a window is unobservable (default 0.005, so that 1 % is about 2σ). */
+  /** Relative scale sigma above which a window is unobservable (default 0.004, so that 1 % is 2.5σ). */
   maxScaleSigma?: number;
   /** Estimate the accelerometer bias over the run (default true). */
   estimateBias?: boolean;
@@ -95,7 +95,7 @@ export function estimateGravityScale(rows: AlignmentRows, worldGravityAligned: b
   if (rows.n < 8) return { ok: false, reason: 'insufficient: fewer than 8 keyframe triplets' };
   const win = windowRanges(rows, options.windowS ?? 10, options.windowOverlap ?? 0.5);
   const nw = win.t.length;
-  const minStd = options.minAccelStd ?? 0.1, maxSig = options.maxScaleSigma ?? 0.005;
+  const minStd = options.minAccelStd ?? 0.1, maxSig = options.maxScaleSigma ?? 0.004;
   const zero = new Float64Array(3);
   const down = Float64Array.of(0, 0, -1);
   const inflate = Math.sqrt(rows.overlap);

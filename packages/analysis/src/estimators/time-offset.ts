@@ -8,7 +8,8 @@
  * is integrated exactly over each odometry interval shifted by τ (running trapezoidal integral, evaluated between
  * samples), so both series describe the same time spans and no resampling bias depends on the sub-sample phase;
  * the normalised correlation is searched over ±maxLag on a 10 ms lattice, then at 1 ms around the best lag, and
- * refined by a parabola through the three best points (sub-sample interpolation, common practice). Uncertainty: linearised delay estimation, σ² = σ_res² / Σ ȯ², counted over independent odometry
+ * refined by a parabola through three points at 1 ms and again at 0.2 ms spacing (sub-sample interpolation, common
+ * practice). Uncertainty: linearised delay estimation, σ² = σ_res² / Σ ȯ², counted over independent odometry
  * samples (the Cramér–Rao form for a time delay of a known waveform; S. M. Kay, "Fundamentals of Statistical Signal
  * Processing: Estimation Theory", 1993, §3.11 example — from memory). Skew: weighted least-squares line through
  * the per-window offsets, σ inflated by √(χ²/dof) when the scatter exceeds the stated sigmas.
@@ -40,7 +41,7 @@ export interface TimeOffsetResult {
   skewPpm: number | null;
   skewSigmaPpm: number | null;
   skewReason: string | null;
-  /** Per-window offsets (s). */
+  /** Per-window offsets (s); `t` is where each window's delay information is centred (IMU clock). */
   windows: WindowSeries;
   /** Best correlation coefficient per window. */
   peakCorrelation: Float64Array;
@@ -70,6 +71,7 @@ export function estimateTimeOffset(imu: ImuColumns, odom: OdometryColumns, optio
     else {
       windows.value[w] = r.offset;
       windows.sigma[w] = r.sigma;
+      if (Number.isFinite(r.tEff)) windows.t[w] = r.tEff;
     }
   }
   return combineWindows(windows, peak);
@@ -129,7 +131,7 @@ function cursorBefore(tx: Float64Array, n: number, t: number): number {
   return lo;
 }
 
-type WindowOffset = { offset: number; sigma: number; peak: number } | { reason: string; peak: number };
+type WindowOffset = { offset: number; sigma: number; peak: number; tEff: number } | { reason: string; peak: number };
 
 interface WindowData {
   s: Scratch;
@@ -218,10 +220,17 @@ function offsetInWindow(
   search(best.tau - 0.01, best.tau + 0.01, 0.001, best);
   if (best.c < (options.minPeakCorrelation ?? 0.6)) return { reason: 'unobservable: no distinct correlation peak', peak: best.c };
   if (Math.abs(best.tau) >= maxLag - 0.001) return { reason: 'insufficient: correlation peak at the edge of the search range', peak: best.c };
-  const cm = corr(best.tau - 0.001), cp = corr(best.tau + 0.001);
-  const den = cm - 2 * best.c + cp;
-  const offset = best.tau + (den < 0 ? (0.5 * (cm - cp)) / den : 0) * 0.001;
-  return { offset, sigma: delaySigma(d, offset), peak: best.c };
+  // Parabola through three points, twice: at 1 ms spacing, then at 0.2 ms around the first vertex, which removes
+  // most of the pull of a wide parabola towards the lattice point.
+  const vertex = (tau: number, c0: number, h: number): number => {
+    const cm = corr(tau - h), cp = corr(tau + h);
+    const den = cm - 2 * c0 + cp;
+    return tau + (den < 0 ? Math.max(-1, Math.min(1, (0.5 * (cm - cp)) / den)) : 0) * h;
+  };
+  const first = vertex(best.tau, best.c, 0.001);
+  const offset = vertex(first, corr(first), 0.0002);
+  const { sigma, tEff } = delaySigma(d, offset);
+  return { offset, sigma, peak: best.c, tEff };
 }
 
 /** Pearson correlation of x[0..m) and y[0..m). */
@@ -239,8 +248,12 @@ function pearson(x: Float64Array, y: Float64Array, m: number): number {
   return vx > 0 && vy > 0 ? (sxy - (sx * sy) / m) / Math.sqrt(vx * vy) : -1;
 }
 
-/** σ of the delay: residual of o ≈ α·g(τ̂) + β over α²·Σ ġ², one independent sample per odometry interval. */
-function delaySigma(d: WindowData, tau: number): number {
+/**
+ * σ of the delay: residual of o ≈ α·g(τ̂) + β over α²·Σ ġ², one independent sample per odometry interval; and the
+ * time the window's delay information is centred on (intervals weighted by ġ²), which is where a drifting offset is
+ * actually measured — the window centre would shrink the skew when motion fills the window unevenly.
+ */
+function delaySigma(d: WindowData, tau: number): { sigma: number; tEff: number } {
   const { s, m } = d;
   const h = 0.002;
   gyroAtLag(d, tau + h);
@@ -257,12 +270,15 @@ function delaySigma(d: WindowData, tau: number): number {
   }
   const alpha = (sgo - (sg * so) / m) / (sgg - (sg * sg) / m);
   const beta = (so - alpha * sg) / m;
-  let res = 0, slope = 0;
+  let res = 0, slope = 0, st = 0;
   for (let j = 0; j < m; j++) {
     res += (s.o[j]! - alpha * s.g[j]! - beta) ** 2;
-    slope += (alpha * (gp[j]! - gm[j]!) / (2 * h)) ** 2;
+    const w = (alpha * (gp[j]! - gm[j]!) / (2 * h)) ** 2;
+    slope += w;
+    const k = d.k0 + j;
+    st += w * 0.5 * (d.rate.t[k]! + d.rate.t[k + 1]! - 2 * tau);
   }
-  return Math.sqrt(res / Math.max(1, m - 2) / slope);
+  return { sigma: Math.sqrt(res / Math.max(1, m - 2) / slope), tEff: slope > 0 ? st / slope : Number.NaN };
 }
 
 function combineWindows(windows: WindowSeries, peak: Float64Array): TimeOffsetResult | Unsupported {
