@@ -82,7 +82,7 @@ describe('plumbline token', () => {
 
 describe('plumbline analyze', () => {
   it('prints the report and exits by verdict (0 sound, 1 doubtful, 2 unfit); 65 for a non-bundle', async () => {
-    const b = await simulateBundle('cli-analyze');
+    const b = await simulateBundle('cli-analyze', 20);
     try {
       const json = await plumbline(['analyze', b.path, '--json']);
       const report = JSON.parse(json.out) as { verdict: 'sound' | 'doubtful' | 'unfit'; score: number; run: { run_id: string } };

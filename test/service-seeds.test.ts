@@ -17,7 +17,7 @@ beforeAll(async () => {
   seedDir = await mkdtemp(join(tmpdir(), 'plumbline-seeds-'));
   // The demo fleet's layouts: <robot>/<run>/bundle/ directories, and an archive beside them.
   const sim = (out: string, robot: string, run: string, archive: boolean) => {
-    const args = ['--import', 'tsx', SIMULATOR, '--out', join(seedDir, out), '--duration', '30', '--robot', robot, '--run', run, ...(archive ? ['--archive'] : [])];
+    const args = ['--import', 'tsx', SIMULATOR, '--out', join(seedDir, out), '--duration', '15', '--robot', robot, '--run', run, ...(archive ? ['--archive'] : [])];
     const r = spawnSync(process.execPath, args, { encoding: 'utf8' });
     if (r.status !== 0) throw new Error(r.stderr);
   };
@@ -26,7 +26,7 @@ beforeAll(async () => {
   t = await createTestApp({ inspectBundle });
 });
 afterAll(async () => {
-  await t.close();
+  await t?.close();
   await rm(seedDir, { recursive: true, force: true });
 });
 

@@ -13,7 +13,7 @@ let dir: string;
 let threaded: ThreadedAnalyze;
 beforeAll(async () => {
   dir = await mkdtemp(join(tmpdir(), 'plumbline-thread-'));
-  const r = spawnSync(process.execPath, ['--import', 'tsx', SIMULATOR, '--out', dir, '--duration', '30', '--archive'], { encoding: 'utf8' });
+  const r = spawnSync(process.execPath, ['--import', 'tsx', SIMULATOR, '--out', dir, '--duration', '20', '--archive'], { encoding: 'utf8' });
   if (r.status !== 0) throw new Error(r.stderr);
   threaded = createThreadedAnalyze(1);
 });
