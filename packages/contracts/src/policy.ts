@@ -51,9 +51,9 @@ export const PolicyKnobs = z
     score_weight_warn: z.number().min(0).max(1),
     /** Score: weight of the fraction of distance flagged at critical severity. */
     score_weight_critical: z.number().min(0).max(1),
-    /** Score: points removed for each run-level critical finding (flags spanning no distance, e.g. units). */
+    /** Score: points removed for each flag kind whose worst flag is critical. */
     score_penalty_critical: z.number().min(0).max(100),
-    /** Score: points removed for each run-level warning. */
+    /** Score: points removed for each flag kind whose worst flag is a warning. */
     score_penalty_warn: z.number().min(0).max(100),
   })
   .strict();
