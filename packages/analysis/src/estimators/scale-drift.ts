@@ -219,7 +219,10 @@ function findSteps(raw: { t: Float64Array; value: Float64Array; sigma: Float64Ar
       const tb = raw.t[w]!;
       if (steps.some((st) => Math.abs(st.t - tb) < windowS)) continue;
       let wb = 0, sb = 0, wa = 0, sa = 0;
-      for (let j = 0; j < n; j++) {
+      // Window centres are sorted: only neighbours within 3.5 window lengths count (O(n) per scan).
+      let j0 = w;
+      while (j0 > 0 && raw.t[j0 - 1]! >= tb - 3.5 * windowS) j0--;
+      for (let j = j0; j < n && raw.t[j]! <= tb + 3.5 * windowS; j++) {
         const v = raw.value[j]!, sg = raw.sigma[j]!;
         if (!Number.isFinite(v) || !(sg > 0)) continue;
         const tj = raw.t[j]!, dt = tj - tb, wt = 1 / (sg * sg);

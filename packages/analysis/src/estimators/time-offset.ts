@@ -140,6 +140,8 @@ interface WindowData {
   k0: number;
   m: number;
   rate: OdomRate;
+  /** Use every step-th odometry interval (coarse search). */
+  step: number;
 }
 
 /**
@@ -159,7 +161,7 @@ function gyroAtLag(d: WindowData, tau: number): void {
     out[2] = s.pz[c]! + s.wz[c]! * u + (s.wz[c + 1]! - s.wz[c]!) * f;
   };
   const a = s.ia, b = s.ib;
-  for (let j = 0; j < d.m; j++) {
+  for (let j = 0; j < d.m; j += d.step) {
     const k = d.k0 + j;
     const t0 = rate.t[k]! - tau, t1 = rate.t[k + 1]! - tau;
     at(t0, a);
@@ -204,10 +206,10 @@ function offsetInWindow(
   }
   const oStd = Math.sqrt(Math.max(0, soo / m - (so / m) ** 2));
   if (oStd < (options.minRateStdRadS ?? 0.03)) return { reason: 'unobservable: too little rotation to correlate', peak: 0 };
-  const d: WindowData = { s, ni, k0, m, rate };
+  const d: WindowData = { s, ni, k0, m, rate, step: 1 };
   const corr = (tau: number): number => {
     gyroAtLag(d, tau);
-    return pearson(s.g, s.o, m);
+    return pearson(s.g, s.o, m, d.step);
   };
   const search = (lo: number, hi: number, step: number, best: { c: number; tau: number }) => {
     for (let tau = lo; tau <= hi + 1e-12; tau += step) {
@@ -216,7 +218,11 @@ function offsetInWindow(
     }
   };
   const best = { c: -2, tau: 0 };
+  // Coarse lattice on every 4th odometry interval (the peak is hundreds of ms wide), then everything at 1 ms.
+  d.step = 4;
   search(-maxLag, maxLag, 0.01, best);
+  d.step = 1;
+  best.c = corr(best.tau);
   search(best.tau - 0.01, best.tau + 0.01, 0.001, best);
   if (best.c < (options.minPeakCorrelation ?? 0.6)) return { reason: 'unobservable: no distinct correlation peak', peak: best.c };
   if (Math.abs(best.tau) >= maxLag - 0.001) return { reason: 'insufficient: correlation peak at the edge of the search range', peak: best.c };
@@ -233,10 +239,10 @@ function offsetInWindow(
   return { offset, sigma, peak: best.c, tEff };
 }
 
-/** Pearson correlation of x[0..m) and y[0..m). */
-function pearson(x: Float64Array, y: Float64Array, m: number): number {
-  let sx = 0, sy = 0, sxx = 0, syy = 0, sxy = 0;
-  for (let i = 0; i < m; i++) {
+/** Pearson correlation of x and y over indices 0, step, 2·step, … < m. */
+function pearson(x: Float64Array, y: Float64Array, m: number, step = 1): number {
+  let sx = 0, sy = 0, sxx = 0, syy = 0, sxy = 0, cnt = 0;
+  for (let i = 0; i < m; i += step, cnt++) {
     const a = x[i]!, b = y[i]!;
     sx += a;
     sy += b;
@@ -244,8 +250,8 @@ function pearson(x: Float64Array, y: Float64Array, m: number): number {
     syy += b * b;
     sxy += a * b;
   }
-  const vx = sxx - (sx * sx) / m, vy = syy - (sy * sy) / m;
-  return vx > 0 && vy > 0 ? (sxy - (sx * sy) / m) / Math.sqrt(vx * vy) : -1;
+  const vx = sxx - (sx * sx) / cnt, vy = syy - (sy * sy) / cnt;
+  return vx > 0 && vy > 0 ? (sxy - (sx * sy) / cnt) / Math.sqrt(vx * vy) : -1;
 }
 
 /**
