@@ -66,7 +66,7 @@ function machine(): SuiteResult['machine'] {
   };
 }
 
-function checks(r: SuiteResult): Check[] {
+export function checks(r: SuiteResult): Check[] {
   const out: Check[] = [];
   const add = (figure: string, value: number, target: string, met: boolean) => out.push({ figure, value, target, met });
   const a = r.shiftAnalysis;
@@ -140,4 +140,23 @@ export async function runSuite(sizes: Sizes, opts: SuiteOptions): Promise<SuiteR
   if (sizes.poseGraph) await step('pose-graph', async () => void (r.poseGraph = await benchPoseGraph()));
   r.checks = checks(r);
   return r;
+}
+
+/** `previous` with the benchmarks named in `only` taken from `next` (machine and errors from both). */
+export function mergeResults(previous: SuiteResult, next: SuiteResult, only: Set<string>): SuiteResult {
+  const out: SuiteResult = { ...previous, machine: next.machine, workloads: { ...previous.workloads }, errors: [...previous.errors.filter((e) => !only.has(e.bench)), ...next.errors] };
+  if (only.has('analysis')) {
+    out.shiftAnalysis = next.shiftAnalysis;
+    out.workloads.shift = next.workloads.shift ?? previous.workloads.shift;
+  }
+  if (only.has('ingest')) out.ingest = next.ingest;
+  if (only.has('list')) {
+    out.list = next.list;
+    out.workloads.fleet = next.workloads.fleet ?? previous.workloads.fleet;
+  }
+  if (only.has('burst')) out.burst = next.burst;
+  if (only.has('inertial')) out.inertial = next.inertial;
+  if (only.has('pose-graph')) out.poseGraph = next.poseGraph;
+  out.checks = checks(out);
+  return out;
 }
