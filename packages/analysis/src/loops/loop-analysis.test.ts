@@ -103,3 +103,18 @@ describe('loop analysis: dock return over a 500 m loop with 1 % drift', () => {
     expect(csv.split('\n')).toHaveLength(n + 2);
   });
 });
+
+describe('repairTrajectory similarity part', () => {
+  it('rotates the world by the gravity correction and then scales to metres', () => {
+    const c = (...v: number[]) => Float64Array.from(v);
+    const odo: OdometryColumns = { n: 2, t: c(0, 1), x: c(1, 2), y: c(0, 0), z: c(0, 1), qw: c(1, 1), qx: c(0, 0), qy: c(0, 0), qz: c(0, 0), quality: null };
+    // 90° about x: (x, y, z) → (x, −z, y); quaternion (cos 45°, sin 45°, 0, 0).
+    const h = Math.SQRT1_2;
+    const rep = repairTrajectory({ odometry: odo, keyframes: Int32Array.of(0, 1), optimised: null, scale: 2, gravityRotation: c(h, h, 0, 0) });
+    const k = rep.columns;
+    expect([k.x[1], k.y[1], k.z[1]].map((v) => Math.round(v! * 1e9) / 1e9 + 0)).toEqual([4, -2, 0]);
+    expect([k.qw[1], k.qx[1]].map((v) => Math.round(v! * 1e9) / 1e9)).toEqual([0.707106781, 0.707106781]);
+    expect(rep.gravityRotationDeg).toBeCloseTo(90, 9);
+    expect(rep.maxShift).toBe(0);
+  });
+});
