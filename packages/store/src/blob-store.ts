@@ -191,6 +191,27 @@ export function createBlobStore(dir: string): BlobStore {
       if (!existsSync(path)) throw new NotFoundError('blob', sha256);
       return createReadStream(path);
     },
+    async remove(sha256, guard) {
+      checkSha(sha256);
+      if (guard.isReferenced(sha256)) return { removed: false, reason: 'referenced' };
+      // Moved aside first and the guard asked again, so an upload of the same content that created its run in
+      // between keeps its blob (it is moved back unless that upload already installed the same bytes again).
+      await mkdir(tmpDir, { recursive: true });
+      const aside = newTempPath('removing');
+      try {
+        await rename(pathOf(sha256), aside);
+      } catch (err) {
+        if ((err as NodeJS.ErrnoException).code === 'ENOENT') return { removed: false, reason: 'absent' };
+        throw err;
+      }
+      if (guard.isReferenced(sha256)) {
+        if (existsSync(pathOf(sha256))) await removeTemp(aside);
+        else await rename(aside, pathOf(sha256));
+        return { removed: false, reason: 'referenced' };
+      }
+      await removeTemp(aside);
+      return { removed: true };
+    },
     removeTemp,
     async sweep(olderThanMs, now = new Date()) {
       let names: string[];

@@ -1,6 +1,6 @@
 import type { Report, Severity } from '@plumbline/contracts';
 import { RUN_COLUMNS, isoNow, priorityOf, toRunSummary, type RunRow } from './rows.ts';
-import type { Db, RecordOutcome, ReportRepository, StoredReportInfo, WithinTransaction } from './types.ts';
+import type { Db, RecordOptions, RecordOutcome, ReportRepository, StoredReportInfo } from './types.ts';
 
 const SEVERITY_ORDER: Severity[] = ['info', 'warn', 'critical'];
 
@@ -34,8 +34,8 @@ export function createReportRepository(db: Db): ReportRepository {
   const byJobKey = db.prepare('SELECT id FROM reports WHERE job_key = ?').pluck();
   const retire = db.prepare('UPDATE reports SET is_current = 0 WHERE run = ? AND is_current = 1');
   const insertReport = db.prepare(
-    `INSERT INTO reports (run, job_key, analysis_version, policy_hash, score, verdict, is_current, report_json, created_at)
-     VALUES (?, ?, ?, ?, ?, ?, 1, ?, ?)`,
+    `INSERT INTO reports (run, job_key, analysis_version, policy_hash, score, verdict, is_current, report_json, created_at, repaired_csv_sha256)
+     VALUES (?, ?, ?, ?, ?, ?, 1, ?, ?, ?)`,
   );
   const clearFlags = db.prepare('DELETE FROM flags WHERE run = ?');
   const clearSegments = db.prepare('DELETE FROM segments WHERE run = ?');
@@ -51,6 +51,7 @@ export function createReportRepository(db: Db): ReportRepository {
   );
   const audit = db.prepare(`INSERT INTO audit_log (at, actor, action, subject, detail_json) VALUES (?, 'worker', 'run.analysed', ?, ?)`);
   const currentJson = db.prepare('SELECT report_json FROM reports WHERE run = ? AND is_current = 1').pluck();
+  const currentCsv = db.prepare('SELECT repaired_csv_sha256 FROM reports WHERE run = ? AND is_current = 1').pluck();
   const byIdJson = db.prepare('SELECT report_json FROM reports WHERE id = ?').pluck();
   const history = db.prepare(
     `SELECT id, run, job_key, analysis_version, policy_hash, score, verdict, is_current, created_at
@@ -59,7 +60,7 @@ export function createReportRepository(db: Db): ReportRepository {
 
   const summary = db.prepare(`SELECT ${RUN_COLUMNS} FROM runs WHERE id = ?`);
 
-  const record = db.transaction((runId: string, report: Report, jobKey: string, opts: WithinTransaction): RecordOutcome => {
+  const record = db.transaction((runId: string, report: Report, jobKey: string, opts: RecordOptions): RecordOutcome => {
     const run = runState.get(runId) as { status: string; job_key: string | null; decision: string | null } | undefined;
     if (!run) return { recorded: false, reason: 'not-found' };
     if (byJobKey.get(jobKey) !== undefined) return { recorded: false, reason: 'already-recorded' };
@@ -68,7 +69,7 @@ export function createReportRepository(db: Db): ReportRepository {
     const now = isoNow();
     retire.run(runId);
     const reportId = Number(
-      insertReport.run(runId, jobKey, report.analysis_version, report.policy_hash, report.score, report.verdict, JSON.stringify(report), now)
+      insertReport.run(runId, jobKey, report.analysis_version, report.policy_hash, report.score, report.verdict, JSON.stringify(report), now, opts.repairedCsvSha256 ?? null)
         .lastInsertRowid,
     );
     clearFlags.run(runId);
@@ -97,6 +98,9 @@ export function createReportRepository(db: Db): ReportRepository {
     current(runId) {
       const text = currentJson.get(runId) as string | undefined;
       return text === undefined ? null : (JSON.parse(text) as Report);
+    },
+    repairedCsvOf(runId) {
+      return (currentCsv.get(runId) as string | null | undefined) ?? null;
     },
     history(runId) {
       return (history.all(runId) as ReportInfoRow[]).map(

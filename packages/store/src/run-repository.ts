@@ -39,6 +39,12 @@ export function createRunRepository(db: Db): RunRepository {
   const toFailed = db.prepare(
     `UPDATE runs SET status = 'failed', status_reason = ? WHERE id = ? AND job_key = ? AND status IN ('queued', 'analysing')`,
   );
+  const toRejected = db.prepare(
+    `UPDATE runs SET status = 'rejected', status_reason = ? WHERE id = ? AND job_key = ? AND status IN ('queued', 'analysing')`,
+  );
+  const blobUse = db.prepare(
+    `SELECT EXISTS (SELECT 1 FROM runs WHERE sha256 = ?) OR EXISTS (SELECT 1 FROM reports WHERE repaired_csv_sha256 = ?)`,
+  ).pluck();
   const pending = db.prepare(
     `SELECT id, sha256, job_key, generation, policy FROM runs
      WHERE status IN ('queued', 'analysing') AND job_key IS NOT NULL ORDER BY received_at, id LIMIT ?`,
@@ -157,6 +163,8 @@ export function createRunRepository(db: Db): RunRepository {
     },
     markAnalysing: (id, jobKey) => toAnalysing.run(id, jobKey).changes > 0,
     markFailed: (id, jobKey, reason) => toFailed.run(reason, id, jobKey).changes > 0,
+    markRejected: (id, jobKey, reason) => toRejected.run(reason, id, jobKey).changes > 0,
+    blobReferenced: (sha256) => blobUse.get(sha256, sha256) === 1,
     ticket(id) {
       const row = byId.get(id) as RunRow | undefined;
       return row ? ticketOf(row) : null;

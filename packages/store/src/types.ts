@@ -101,6 +101,10 @@ export interface RunRepository {
   markAnalysing(id: string, jobKey: string): boolean;
   /** Marks the current generation failed (only when `jobKey` is current and the run is not done). */
   markFailed(id: string, jobKey: string, reason: string): boolean;
+  /** Marks the current generation rejected (bad bundle data; only when `jobKey` is current and the run is not done). */
+  markRejected(id: string, jobKey: string, reason: string): boolean;
+  /** True when a run's bundle or a report's repaired trajectory is the blob with this SHA-256 (guards blob removal). */
+  blobReferenced(sha256: string): boolean;
   /** The current ticket of a run (e.g. to re-enqueue after a restart), or null. */
   ticket(id: string): AnalysisTicket | null;
   /** Runs in `queued`/`analysing`, oldest first, to re-enqueue at start-up (the queue dedups by job key). */
@@ -114,6 +118,11 @@ export interface RunRepository {
  */
 export interface WithinTransaction {
   within?: (run: RunSummary) => void;
+}
+
+export interface RecordOptions extends WithinTransaction {
+  /** The blob holding the gzipped repaired trajectory CSV produced with this report (stored before recording). */
+  repairedCsvSha256?: string | null;
 }
 
 export interface StoredReportInfo {
@@ -135,9 +144,11 @@ export interface ReportRepository {
    * segments, the run summary fields (score, verdict, worst severity, flag counts, priority), status `done`, and an
    * audit entry. A second call with the same key returns `{ recorded: false, reason: 'already-recorded' }`.
    */
-  recordAnalysis(runId: string, report: Report, jobKey: string, opts?: WithinTransaction): RecordOutcome;
+  recordAnalysis(runId: string, report: Report, jobKey: string, opts?: RecordOptions): RecordOutcome;
   /** The current report of a run, or null. */
   current(runId: string): Report | null;
+  /** SHA-256 of the gzipped repaired-trajectory CSV of the current report (a blob), or null when none was stored. */
+  repairedCsvOf(runId: string): string | null;
   /** All reports of a run, newest first (metadata only). */
   history(runId: string): StoredReportInfo[];
   /** One stored report by id (current or previous). */
@@ -301,6 +312,11 @@ export interface BlobStore {
   has(sha256: string): Promise<boolean>;
   /** A read stream of a stored blob (throws NotFoundError if absent). */
   open(sha256: string): Readable;
+  /**
+   * Removes a stored blob unless `guard.isReferenced(sha256)` answers true (a run's bundle or a report's trajectory
+   * still points at it). Returns whether it was removed; an absent blob answers `{ removed: false, reason: 'absent' }`.
+   */
+  remove(sha256: string, guard: { isReferenced(sha256: string): boolean }): Promise<{ removed: true } | { removed: false; reason: 'referenced' | 'absent' }>;
   /** Removes a temp file if present (idempotent). */
   removeTemp(tempPath: string): Promise<void>;
   /** Removes temp files not modified for `olderThanMs`; returns how many were removed. */
