@@ -7,8 +7,8 @@
  * consecutive orientations); magnitudes do not depend on the unknown IMU–odometry rotation. For a trial lag τ the gyro
  * is integrated exactly over each odometry interval shifted by τ (running trapezoidal integral, evaluated between
  * samples), so both series describe the same time spans and no resampling bias depends on the sub-sample phase;
- * the normalised correlation is searched over ±maxLag on a 10 ms lattice, then at 1 ms around the best lag, and
- * refined by a parabola through three points at 1 ms and again at 0.2 ms spacing (sub-sample interpolation, common
+ * the normalised correlation is searched over ±maxLag on a 10 ms lattice, then at 2.5 ms around the best lag, and
+ * refined by parabolas through three points at 2.5, 0.5 and 0.1 ms spacing (sub-sample interpolation, common
  * practice). Uncertainty: linearised delay estimation, σ² = σ_res² / Σ ȯ², counted over independent odometry
  * samples (the Cramér–Rao form for a time delay of a known waveform; S. M. Kay, "Fundamentals of Statistical Signal
  * Processing: Estimation Theory", 1993, §3.11 example — from memory). Skew: weighted least-squares line through
@@ -151,9 +151,12 @@ interface WindowData {
  */
 function gyroAtLag(d: WindowData, tau: number): void {
   const { s, rate } = d;
-  let c = 0;
-  // ∫ of the linearly interpolated rate from the window start to T: P_c + ω_c·u + ½(ω_c+1 − ω_c)·u²/h.
+  const t0w = s.t[0]!, inv = (d.ni - 1) / (s.t[d.ni - 1]! - t0w);
+  // ∫ of the linearly interpolated rate from the window start to T: P_c + ω_c·u + ½(ω_c+1 − ω_c)·u²/h. The sample
+  // index is guessed from the mean rate and corrected locally, so a lag costs O(intervals), not O(samples).
   const at = (T: number, out: Float64Array) => {
+    let c = Math.min(d.ni - 2, Math.max(0, Math.floor((T - t0w) * inv)));
+    while (c > 0 && s.t[c]! > T) c--;
     while (c + 2 < d.ni && s.t[c + 1]! <= T) c++;
     const h = s.t[c + 1]! - s.t[c]!, u = T - s.t[c]!, f = (u * u) / (2 * h);
     out[0] = s.px[c]! + s.wx[c]! * u + (s.wx[c + 1]! - s.wx[c]!) * f;
@@ -218,23 +221,24 @@ function offsetInWindow(
     }
   };
   const best = { c: -2, tau: 0 };
-  // Coarse lattice on every 4th odometry interval (the peak is hundreds of ms wide), then everything at 1 ms.
+  // Coarse lattice on every 4th odometry interval (the peak is hundreds of ms wide), then all intervals at 2.5 ms.
   d.step = 4;
   search(-maxLag, maxLag, 0.01, best);
   d.step = 1;
   best.c = corr(best.tau);
-  search(best.tau - 0.01, best.tau + 0.01, 0.001, best);
+  search(best.tau - 0.0075, best.tau + 0.0075, 0.0025, best);
   if (best.c < (options.minPeakCorrelation ?? 0.6)) return { reason: 'unobservable: no distinct correlation peak', peak: best.c };
   if (Math.abs(best.tau) >= maxLag - 0.001) return { reason: 'insufficient: correlation peak at the edge of the search range', peak: best.c };
-  // Parabola through three points, twice: at 1 ms spacing, then at 0.2 ms around the first vertex, which removes
-  // most of the pull of a wide parabola towards the lattice point.
+  // Parabolas through three points at shrinking spacing around the previous vertex, which removes the pull of a wide
+  // parabola towards the lattice point.
   const vertex = (tau: number, c0: number, h: number): number => {
     const cm = corr(tau - h), cp = corr(tau + h);
     const den = cm - 2 * c0 + cp;
     return tau + (den < 0 ? Math.max(-1, Math.min(1, (0.5 * (cm - cp)) / den)) : 0) * h;
   };
-  const first = vertex(best.tau, best.c, 0.001);
-  const offset = vertex(first, corr(first), 0.0002);
+  const first = vertex(best.tau, best.c, 0.0025);
+  const second = vertex(first, corr(first), 0.0005);
+  const offset = vertex(second, corr(second), 0.0001);
   const { sigma, tEff } = delaySigma(d, offset);
   return { offset, sigma, peak: best.c, tEff };
 }
