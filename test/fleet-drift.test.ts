@@ -10,7 +10,7 @@ import { DRIFTING_FLEET, driftingFleetShifts, simulateDriftShift, type DriftKind
 
 const SHIFTS = 30;
 /** The promise of the detector on this fleet: a drift is reported within this many runs after it starts. */
-const MAX_DELAY_RUNS = 10;
+const MAX_DELAY_RUNS = 8;
 const METRIC_OF: Record<Exclude<DriftKind, 'none'>, CalibrationMetric> = {
   'extrinsic-creep': 'extrinsic_rotation_deg',
   'gyro-bias-growth': 'gyro_bias_rad_s',
@@ -30,19 +30,30 @@ beforeAll(() => {
     runsByRobot.set(s.robot.robot, list);
   }
   for (const [robot, runs] of runsByRobot) {
-    findingsByRobot.set(robot, runs.map((_, i) => maintenanceFindings(robot, runs.slice(0, i + 1), '2026-11-01T00:00:00.000Z')));
+    // As the worker does: the metrics with an open finding after the previous run are held with relaxed limits.
+    const perPrefix: MaintenanceFinding[][] = [];
+    for (let i = 0; i < runs.length; i++) {
+      const open = new Set((perPrefix[i - 1] ?? []).map((f) => f.metric));
+      perPrefix.push(maintenanceFindings(robot, runs.slice(0, i + 1), '2026-11-01T00:00:00.000Z', { open }));
+    }
+    findingsByRobot.set(robot, perPrefix);
   }
 }, 300_000);
 
 describe.each(DRIFTING_FLEET.filter((r) => r.drift !== 'none'))('$robot ($drift from shift $startShift)', (robot) => {
   const metric = METRIC_OF[robot.drift as Exclude<DriftKind, 'none'>];
-  it(`is found within ${MAX_DELAY_RUNS} runs after the drift starts and stays found at the last shift`, () => {
+  it(`is found within ${MAX_DELAY_RUNS} runs after the drift starts and stays found`, () => {
     const perPrefix = findingsByRobot.get(robot.robot)!;
     const firstK = perPrefix.findIndex((fs) => fs.some((f) => f.metric === metric));
     expect(firstK, `no ${metric} finding for ${robot.robot}`).toBeGreaterThanOrEqual(0);
     // firstK is the index of the latest run when first found; the drift starts at run index startShift.
     expect(firstK - robot.startShift).toBeLessThanOrEqual(MAX_DELAY_RUNS);
     expect(firstK).toBeGreaterThanOrEqual(robot.startShift); // never before the drift exists
+    // Once found it stays open (held with relaxed limits): on at least 90 % of the later runs, and on each of the
+    // last ten. Near the opening limit a noisy estimate can still drop it for a run (see docs/fleet.md).
+    const later = perPrefix.slice(firstK).map((fs) => fs.some((f) => f.metric === metric));
+    expect(later.filter(Boolean).length / later.length).toBeGreaterThanOrEqual(0.9);
+    expect(later.slice(-10).every(Boolean)).toBe(true);
     const last = perPrefix[SHIFTS - 1]!.find((f) => f.metric === metric);
     expect(last).toBeDefined();
     // The reported change compares the median of the last five shifts (25..29, middle 27) with the level before the

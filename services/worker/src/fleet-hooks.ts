@@ -17,7 +17,8 @@ export function createAfterRecorded(store: Store, logger: Logger): (runId: strin
       const run = store.runs.get(runId);
       if (!run) return;
       const nowIso = now.toISOString();
-      const findings = maintenanceFindings(run.robot_id, store.maintenance.robotEstimates(run.robot_id, DRIFT_WINDOW_RUNS), nowIso);
+      const open = new Set(store.maintenance.list({ robotId: run.robot_id }).map((f) => f.metric));
+      const findings = maintenanceFindings(run.robot_id, store.maintenance.robotEstimates(run.robot_id, DRIFT_WINDOW_RUNS), nowIso, { open });
       store.maintenance.saveFindings(run.robot_id, findings, nowIso, (saved) => {
         if (saved.opened.length === 0 && saved.resolved.length === 0) return;
         store.webhooks.enqueueEvent('robot.maintenance', { event: 'robot.maintenance', at: nowIso, robot_id: run.robot_id, opened: saved.opened, resolved: saved.resolved }, now);

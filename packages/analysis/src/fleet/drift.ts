@@ -28,6 +28,11 @@ export interface DriftOptions {
   /** CUSUM slack and threshold in units of the run-to-run sigma (defaults 0.5 and 5: NIST/SEMATECH e-Handbook §6.3.2.3 — from memory). */
   slackSigma?: number;
   thresholdSigma?: number;
+  /**
+   * A finding on this series is already open: keep it while the change is at least half the rule's minimum and 1.5
+   * standard errors (hysteresis, so a drift near the limit does not open and resolve on alternate runs).
+   */
+  holding?: boolean;
 }
 
 function medianOf(values: readonly number[]): number {
@@ -79,9 +84,12 @@ export function detectDrift(series: CalibrationSeries, rule: DriftRule = DRIFT_R
   if (first) {
     onset = Math.min(first.onset, n - 1);
   } else {
-    if (n < 10) return null;
-    const fit = theilSen(Float64Array.from(idx), Float64Array.from(ys));
-    if (!fit.ok || (fit.slopeLow <= 0 && fit.slopeHigh >= 0)) return null;
+    // A held finding needs no new alarm: its level against the baseline decides below.
+    if (!options.holding) {
+      if (n < 10) return null;
+      const fit = theilSen(Float64Array.from(idx), Float64Array.from(ys));
+      if (!fit.ok || (fit.slopeLow <= 0 && fit.slopeHigh >= 0)) return null;
+    }
     onset = 0;
   }
   // A step and a ramp both trip the CUSUM. The step is located by the least-squares split (Hinkley 1970), the ramp
@@ -98,12 +106,23 @@ export function detectDrift(series: CalibrationSeries, rule: DriftRule = DRIFT_R
   // Levels: up to five recent runs (at least three) against up to eight runs before the onset. The change must
   // pass the rule's size and be three standard errors of a difference of medians (σ·1.2533/√m each, the
   // asymptotic efficiency of the median; from memory) so single wild estimates do not make a finding.
-  const recentN = Math.max(3, Math.min(5, n - onset));
-  const beforeYs = onset === 0 ? ys.slice(0, baseN) : ys.slice(Math.max(0, onset - 8), onset);
-  const change = medianOf(ys.slice(n - recentN)) - medianOf(beforeYs);
-  const standardError = 1.2533 * sigma * Math.sqrt(1 / recentN + 1 / beforeYs.length);
-  if (Math.abs(change) < Math.max(rule.minChange, 3 * standardError)) return null;
-  if (rule.direction === 'up' && change < 0) return null;
+  const [minFactor, seFactor] = options.holding ? [0.5, 1.5] : [1, 3];
+  const levelChange = (from: number): number | null => {
+    const recentN = Math.max(3, Math.min(5, n - from));
+    const beforeYs = from === 0 ? ys.slice(0, baseN) : ys.slice(Math.max(0, from - 8), from);
+    const change = medianOf(ys.slice(n - recentN)) - medianOf(beforeYs);
+    const standardError = 1.2533 * sigma * Math.sqrt(1 / recentN + 1 / beforeYs.length);
+    if (Math.abs(change) < Math.max(minFactor * rule.minChange, seFactor * standardError)) return null;
+    return rule.direction === 'up' && change < 0 ? null : change;
+  };
+  let change = levelChange(onset);
+  // A held finding also stays while the recent level still stands off the baseline of the first runs.
+  if (change === null && options.holding && onset !== 0) {
+    onset = 0;
+    method = 'trend';
+    change = levelChange(0);
+  }
+  if (change === null) return null;
   const tail = theilSen(Float64Array.from(idx.slice(onset)), ysArr.subarray(onset));
   return {
     metric: series.metric,
@@ -148,13 +167,19 @@ export function driftMessage(d: DriftDetection, series: CalibrationSeries, rule:
 
 /**
  * Maintenance findings of one robot from its runs' estimates (oldest first): one per drifting metric, open, stamped
- * with `nowIso`. Pure; the store keeps `detected_at` of a finding that was already open.
+ * with `nowIso`. `open` names the metrics with a finding already open (held with the relaxed limits of `holding`).
+ * Pure; the store keeps `detected_at` of a finding that was already open.
  */
-export function maintenanceFindings(robotId: string, runs: readonly RunEstimates[], nowIso: string, options: DriftOptions = {}): MaintenanceFinding[] {
+export function maintenanceFindings(
+  robotId: string,
+  runs: readonly RunEstimates[],
+  nowIso: string,
+  options: Omit<DriftOptions, 'holding'> & { open?: ReadonlySet<CalibrationMetric> } = {},
+): MaintenanceFinding[] {
   const out: MaintenanceFinding[] = [];
   for (const series of calibrationSeries(runs)) {
     const rule = DRIFT_RULES[series.metric];
-    const d = detectDrift(series, rule, options);
+    const d = detectDrift(series, rule, { ...options, holding: options.open?.has(series.metric) ?? false });
     if (!d) continue;
     const sinceRun = series.run[d.onset]!;
     out.push({

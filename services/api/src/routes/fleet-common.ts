@@ -46,7 +46,8 @@ export function robotCalibration(store: Store, robotId: string): RobotCalibratio
 export function refreshMaintenance(store: Store, robotId: string, now: Date): FindingsSaved {
   const runs = store.maintenance.robotEstimates(robotId, DRIFT_WINDOW_RUNS);
   const nowIso = now.toISOString();
-  const findings: MaintenanceFinding[] = maintenanceFindings(robotId, runs, nowIso);
+  const open = new Set(store.maintenance.list({ robotId }).map((f) => f.metric));
+  const findings: MaintenanceFinding[] = maintenanceFindings(robotId, runs, nowIso, { open });
   return store.maintenance.saveFindings(robotId, findings, nowIso, (saved) => {
     if (saved.opened.length === 0 && saved.resolved.length === 0) return;
     store.webhooks.enqueueEvent('robot.maintenance', { event: 'robot.maintenance', at: nowIso, robot_id: robotId, opened: saved.opened, resolved: saved.resolved }, now);
