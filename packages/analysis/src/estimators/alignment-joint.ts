@@ -88,6 +88,10 @@ export function solveJoint(rows: AlignmentRows, rowWindow: Int32Array, s0: Float
     const n = Math.hypot(d[0]!, d[1]!, d[2]!);
     for (let i = 0; i < 3; i++) d[i] = d[i]! / n;
     if (withBias) for (let j = 0; j < 3; j++) ba[j] = ba[j]! + x[2 + j]!;
+    // Converged (gravity direction and bias no longer move): the covariance from this pass stands.
+    let moved = 0;
+    for (let a = 0; a < nx; a++) moved = Math.max(moved, Math.abs(x[a]!));
+    if (moved < 1e-8) break;
   }
   const cv = (a: number, c: number) => Sinv![a * nx + c]! * sigma2;
   return {

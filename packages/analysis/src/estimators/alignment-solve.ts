@@ -104,7 +104,7 @@ export function solveAlignment(rows: AlignmentRows, r0: number, r1: number, spec
     // Converged: one more pass only to refresh H and the residuals at the solution.
     let step = Math.abs(u0) + Math.abs(u1) + (freeS ? Math.abs(x[0]!) : 0);
     if (freeB) step += Math.abs(x[iB]!) + Math.abs(x[iB + 1]!) + Math.abs(x[iB + 2]!);
-    if (step < 1e-9) it = iterations - 1;
+    if (step < 1e-7) it = iterations - 1;
   }
   const dof = Math.max(1, 3 * (r1 - r0) - np);
   const s2 = (rms * rms * 3 * (r1 - r0)) / dof;
