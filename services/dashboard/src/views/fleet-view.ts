@@ -3,6 +3,7 @@ import type { AppContext, View } from '../app-context.ts';
 import { h } from '../dom.ts';
 import { fmtTimestamp } from '../format.ts';
 import { severityBadge, sparkline, verdictBadge } from './badges.ts';
+import { maintenanceBlock } from './maintenance-view.ts';
 
 /**
  * Latest score against the mean of the earlier ones (oldest first): more than 5 points up or down counts as a
@@ -52,6 +53,7 @@ export async function renderFleet(ctx: AppContext): Promise<View> {
           body,
         )
       : h('p', { class: 'empty' }, 'No robot has uploaded a run yet.'),
+    await maintenanceBlock(),
   );
   return { el };
 }

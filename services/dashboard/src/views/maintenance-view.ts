@@ -132,6 +132,19 @@ function policySection(policies: StoredPolicy[], changes: PolicyChanges[]): HTML
   );
 }
 
+/**
+ * The open calibration findings as a block for the fleet page; a reader without access (or an API error) gets a
+ * short note instead, so the fleet table never depends on it.
+ */
+export async function maintenanceBlock(): Promise<HTMLElement> {
+  try {
+    const findings = await getJson(arrayOf(MaintenanceFinding), '/maintenance');
+    return h('section', { class: 'fleet-maintenance' }, h('h2', {}, `Calibration drift (${findings.length} open)`), findingsTable(findings), h('p', { class: 'small' }, h('a', { href: '#/maintenance' }, 'Maintenance & policy')));
+  } catch (err) {
+    return h('p', { class: 'small muted' }, `Calibration findings unavailable: ${(err as Error).message}`);
+  }
+}
+
 /** Maintenance and policy: robots whose calibration drifts, how leads judged each flag kind, policy versions. */
 export async function renderMaintenance(_ctx: AppContext): Promise<View> {
   const [findings, feedback, policies] = await Promise.all([
