@@ -1,19 +1,7 @@
-import type { FlagDisposition, FlagKind, FlagReview, ReviewedFlag, Verdict, VerdictChange } from '@plumbline/contracts';
+import type { FlagDisposition, FlagKind, FlagReview, ReviewedFlag, Verdict } from '@plumbline/contracts';
+import type { FeedbackRepository } from './fleet-types.ts';
 import type { Db } from './types.ts';
 
-export interface FeedbackRepository {
-  /**
-   * Every flag disposition of the latest review of each run, joined with the flag's kind and measured value in the
-   * run's current report and the run's site. Dispositions of flags no longer in the current report are left out.
-   */
-  reviewedFlags(opts?: { site?: string }): ReviewedFlag[];
-  /**
-   * Runs whose current report has a different verdict than the report before it, newest first; with `policies`,
-   * only runs whose latest analysis was requested under one of those policy names (the run's `policy` column, e.g.
-   * `yard@2`).
-   */
-  verdictChanges(opts?: { policies?: readonly string[]; limit?: number }): VerdictChange[];
-}
 
 /** Review statistics and re-analysis outcomes, read across runs (no writes). */
 export function createFeedbackRepository(db: Db): FeedbackRepository {

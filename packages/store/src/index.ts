@@ -11,6 +11,7 @@ export { createWebhookRepository, deliveryBackoffMs } from './webhook-repository
 export { createUploadRepository } from './upload-repository.ts';
 export { createRobotRepository } from './robot-repository.ts';
 export { createBlobStore } from './blob-store.ts';
-export { createMaintenanceRepository, type MaintenanceRepository, type StoredRunEstimates, type FindingsSaved } from './maintenance-repository.ts';
-export { createPolicyRepository, PolicyExistsError, type PolicyRepository } from './policy-repository.ts';
-export { createFeedbackRepository, type FeedbackRepository } from './feedback-repository.ts';
+export { createMaintenanceRepository } from './maintenance-repository.ts';
+export { createPolicyRepository, PolicyExistsError } from './policy-repository.ts';
+export { createFeedbackRepository } from './feedback-repository.ts';
+export type { MaintenanceRepository, StoredRunEstimates, FindingsSaved, PolicyRepository, FeedbackRepository } from './fleet-types.ts';

@@ -1,34 +1,9 @@
 import type { Estimates, MaintenanceFinding } from '@plumbline/contracts';
+import type { FindingsSaved, MaintenanceRepository } from './fleet-types.ts';
 import type { Db } from './types.ts';
 
-/** A run's id, start time and current report estimates, as the drift detector reads them. */
-export interface StoredRunEstimates {
-  run: string;
-  run_id: string;
-  started_at: string | null;
-  estimates: Estimates;
-}
 
-export interface FindingsSaved {
-  /** Findings of a metric that had no open finding before. */
-  opened: MaintenanceFinding[];
-  /** Findings still open, with updated numbers (detected_at and id kept). */
-  updated: MaintenanceFinding[];
-  resolved: MaintenanceFinding[];
-}
 
-export interface MaintenanceRepository {
-  /** Current-report estimates of a robot's analysed runs, oldest first by started_at (received_at when unknown); the latest `limit`. */
-  robotEstimates(robotId: string, limit?: number): StoredRunEstimates[];
-  /**
-   * Replaces a robot's open findings with `findings` in one transaction: a metric still drifting keeps its id and
-   * detected_at, a new one is opened, a metric no longer drifting is resolved. `within` runs inside the transaction
-   * with the outcome (e.g. to queue `robot.maintenance` webhook deliveries with the fact).
-   */
-  saveFindings(robotId: string, findings: readonly MaintenanceFinding[], nowIso: string, within?: (saved: FindingsSaved) => void): FindingsSaved;
-  /** Findings, newest update first; filters by robot and status (default open). */
-  list(opts?: { robotId?: string; status?: 'open' | 'resolved' | 'all'; limit?: number }): MaintenanceFinding[];
-}
 
 interface FindingRow {
   id: string;

@@ -1,6 +1,7 @@
 import { Policy, type StoredPolicy } from '@plumbline/contracts';
 import { StoreError } from './errors.ts';
 import { isoNow } from './rows.ts';
+import type { PolicyRepository } from './fleet-types.ts';
 import type { Db } from './types.ts';
 
 /** A policy (name, version) is stored once; a changed document needs a new version. */
@@ -10,16 +11,6 @@ export class PolicyExistsError extends StoreError {
   }
 }
 
-export interface PolicyRepository {
-  /** Stores a new policy version; `hash` is the policy hash of the document. Throws PolicyExistsError. */
-  create(policy: Policy, hash: string, createdBy: string, now?: Date): StoredPolicy;
-  /** One version, or the latest stored version of `name` when `version` is omitted. */
-  get(name: string, version?: string): StoredPolicy | null;
-  /** The version stored before `version` of `name`, or null. */
-  previous(name: string, version: string): StoredPolicy | null;
-  /** All stored versions, by name then storage order. */
-  list(): StoredPolicy[];
-}
 
 interface PolicyRow {
   name: string;

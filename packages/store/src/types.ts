@@ -27,9 +27,7 @@ import type {
   WebhookInfo,
 } from '@plumbline/contracts';
 import type BetterSqlite3 from 'better-sqlite3';
-import type { MaintenanceRepository } from './maintenance-repository.ts';
-import type { PolicyRepository } from './policy-repository.ts';
-import type { FeedbackRepository } from './feedback-repository.ts';
+import type { FeedbackRepository, MaintenanceRepository, PolicyRepository } from './fleet-types.ts';
 
 /** The SQLite handle returned by `openDatabase`; pass it to `createStore` and `createEmbeddedQueue`. */
 export type Db = BetterSqlite3.Database;
