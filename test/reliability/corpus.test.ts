@@ -119,7 +119,10 @@ describe('malformed bundle corpus', () => {
           (e.file === undefined || body.file === e.file) &&
           (e.line === undefined || body.line === e.line) &&
           (e.column === undefined || body.column === e.column) &&
-          (!e.located || (typeof body.line === 'number' && typeof body.column === 'number'));
+          (!e.located || (typeof body.line === 'number' && typeof body.column === 'number')) &&
+          // A named file is one the client knows: a bundle entry or the upload itself, never a server storage name.
+          (body.file === undefined || body.file === '(upload)' || /^[\w./-]{1,64}$/.test(String(body.file))) &&
+          (body.code !== 'BUNDLE_INVALID' || !/[0-9a-f]{40}/.test(String(body.detail)));
         if (!ok) failures.push(`${k.id}: expected ${e.status} ${e.code}/${e.bundle_code ?? ''} ${e.file ?? ''}:${e.line ?? ''}:${e.column ?? ''}, got ${r.body.slice(0, 300)}`);
         results.push({ id: k.id, outcome: got });
       } else if (r.statusCode !== 201) {

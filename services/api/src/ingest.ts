@@ -1,3 +1,4 @@
+import { basename } from 'node:path';
 import type { RunSummary } from '@plumbline/contracts';
 import type { BlobInfo, Store } from '@plumbline/store';
 import type { JobQueue } from '@plumbline/queue';
@@ -20,6 +21,18 @@ export async function requestAnalysis(store: Store, queue: JobQueue, runId: stri
 }
 
 /**
+ * Archive-level bundle errors name the archive by its file name, which on the server is an internal content
+ * address; the client knows it as the upload. Such errors are re-labelled `file: "(upload)"`.
+ */
+function withoutStorageName(e: unknown, path: string): unknown {
+  const b = e as { name?: string; file?: string | null; message?: string; code?: string; line?: number | null; column?: number | null };
+  const name = basename(path);
+  if (b?.name !== 'BundleError' || b.file !== name) return e;
+  const detail = String(b.message).startsWith(`${name}: `) ? String(b.message).slice(name.length + 2) : String(b.message);
+  return errors.BUNDLE_INVALID(`the uploaded archive: ${detail}`).with({ bundle_code: b.code, file: '(upload)' });
+}
+
+/**
  * After a bundle is stored: check its manifest, create the run (`received`), enqueue it (`queued`).
  * Archive and manifest problems are refused here with 422 (nothing is stored as a run); problems inside the data
  * streams are found by the analysis, which then marks the run `rejected` with the reason.
@@ -31,7 +44,9 @@ export async function ingestBlob(
   blob: BlobInfo,
   declared?: { robot_id: string; run_id: string },
 ): Promise<{ run: RunSummary; created: boolean }> {
-  const { manifest } = await deps.inspectBundle(blob.path);
+  const { manifest } = await deps.inspectBundle(blob.path).catch((e: unknown) => {
+    throw withoutStorageName(e, blob.path);
+  });
   if (principal.role === 'robot' && manifest.robot_id !== principal.robotId) {
     throw errors.ROBOT_MISMATCH(principal.robotId ?? '(none)', manifest.robot_id).with({ file: 'run.json' });
   }

@@ -59,12 +59,13 @@ export function solveAlignment(rows: AlignmentRows, r0: number, r1: number, spec
   let s = spec.s0;
   const ba = freeB ? new Float64Array(3) : Float64Array.from(spec.bias as Float64Array);
   const b1 = new Float64Array(3), b2 = new Float64Array(3), J = new Float64Array(3 * np), res = new Float64Array(3);
-  let H = new Float64Array(np * np), inv: Float64Array | null = null, rms = 0, huber = Number.POSITIVE_INFINITY;
+  const H = new Float64Array(np * np), grad = new Float64Array(np);
+  let inv: Float64Array | null = null, rms = 0, huber = Number.POSITIVE_INFINITY;
   const G = spec.gravityMS2;
   for (let it = 0; it <= iterations; it++) {
     tangentBasis(d, b1, b2);
-    H = new Float64Array(np * np);
-    const grad = new Float64Array(np);
+    H.fill(0);
+    grad.fill(0);
     let sse = 0;
     for (let r = r0; r < r1; r++) {
       const sr = freeS ? s : (spec.scale as Float64Array)[r]!;
@@ -79,7 +80,7 @@ export function solveAlignment(rows: AlignmentRows, r0: number, r1: number, spec
         J[o + iG + 1] = beta * G * b2[i]!;
         if (freeB) for (let j = 0; j < 3; j++) J[o + iB + j] = -rows.m[9 * r + 3 * i + j]!;
       }
-      const e = Math.hypot(res[0]!, res[1]!, res[2]!);
+      const e = Math.sqrt(res[0]! * res[0]! + res[1]! * res[1]! + res[2]! * res[2]!);
       sse += e * e;
       const w = e <= huber ? 1 : huber / e;
       for (let a = 0; a < np; a++) {
