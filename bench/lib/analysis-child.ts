@@ -32,8 +32,12 @@ async function main(): Promise<void> {
     out.seconds = (performance.now() - t0) / 1000;
     out.verdict = report.verdict;
     out.flags = report.flags.length;
+    out.reportBytes = Buffer.byteLength(JSON.stringify(report));
   }
-  out.maxRssBytes = process.resourceUsage().maxRSS * 1024;
+  const usage = process.resourceUsage();
+  out.maxRssBytes = usage.maxRSS * 1024;
+  // CPU time of the whole process (start-up included), µs: on a shared machine the figure to plan capacity with
+  out.cpuSeconds = (usage.userCPUTime + usage.systemCPUTime) / 1e6;
   console.log(`BENCH_RESULT ${JSON.stringify(out)}`);
 }
 

@@ -7,6 +7,8 @@ import { heapPeakFromTraceGc, markedJson, runChild } from './children.ts';
 
 export interface AnalysisSide {
   seconds: number;
+  /** user + system CPU seconds of the child process */
+  cpuSeconds: number;
   maxRssBytes: number;
   heapPeakBytes: number | null;
 }
@@ -15,7 +17,7 @@ export interface ShiftAnalysisResult {
   counts: { imu: number; odometry: number; gnss: number; loops: number };
   columnarBytes: number;
   read: AnalysisSide;
-  analyze: AnalysisSide & { verdict: string; flags: number };
+  analyze: AnalysisSide & { verdict: string; flags: number; reportBytes: number };
   /** analyze seconds ÷ read seconds */
   timeRatio: number;
   /** analyze maxRSS ÷ columnar bytes */
@@ -24,11 +26,13 @@ export interface ShiftAnalysisResult {
 
 interface ChildOut {
   seconds: number;
+  cpuSeconds: number;
   maxRssBytes: number;
   columnarBytes?: number;
   counts?: ShiftAnalysisResult['counts'];
   verdict?: string;
   flags?: number;
+  reportBytes?: number;
 }
 
 async function side(mode: 'read' | 'analyze', bundle: string): Promise<ChildOut & { heapPeakBytes: number | null }> {
@@ -44,8 +48,8 @@ export async function benchShiftAnalysis(bundle: string): Promise<ShiftAnalysisR
   return {
     counts: read.counts ?? { imu: 0, odometry: 0, gnss: 0, loops: 0 },
     columnarBytes,
-    read: { seconds: read.seconds, maxRssBytes: read.maxRssBytes, heapPeakBytes: read.heapPeakBytes },
-    analyze: { seconds: analyze.seconds, maxRssBytes: analyze.maxRssBytes, heapPeakBytes: analyze.heapPeakBytes, verdict: analyze.verdict ?? '', flags: analyze.flags ?? 0 },
+    read: { seconds: read.seconds, cpuSeconds: read.cpuSeconds, maxRssBytes: read.maxRssBytes, heapPeakBytes: read.heapPeakBytes },
+    analyze: { seconds: analyze.seconds, cpuSeconds: analyze.cpuSeconds, maxRssBytes: analyze.maxRssBytes, heapPeakBytes: analyze.heapPeakBytes, verdict: analyze.verdict ?? '', flags: analyze.flags ?? 0, reportBytes: analyze.reportBytes ?? 0 },
     timeRatio: analyze.seconds / read.seconds,
     rssRatio: analyze.maxRssBytes / columnarBytes,
   };

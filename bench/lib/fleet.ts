@@ -5,7 +5,7 @@
  * Cached in bench/out/ under its size, since the content is a pure function of it.
  */
 import { existsSync } from 'node:fs';
-import { mkdir, rename, rm, stat } from 'node:fs/promises';
+import { mkdir, readFile, rename, rm, stat, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { openDatabase } from '@plumbline/store';
 
@@ -18,6 +18,8 @@ export interface FleetWorkload {
   bytes: number;
   /** seconds to build it now; null when the cached database was reused */
   insertS: number | null;
+  /** seconds the build took when the cached database was made (build.json beside it) */
+  firstInsertS: number | null;
 }
 
 const BIRDS = ['kestrel', 'plover', 'heron', 'wren', 'tern'];
@@ -93,10 +95,13 @@ export async function ensureFleet(outRoot: string, runs = 100_000, robots = 500)
     const t0 = performance.now();
     populate(join(tmp, 'plumbline.sqlite'), runs, robots);
     insertS = (performance.now() - t0) / 1000;
+    await writeFile(join(tmp, 'build.json'), `${JSON.stringify({ insertS })}\n`);
     await rm(dir, { recursive: true, force: true });
     await rename(tmp, dir);
   }
+  const build = existsSync(join(dir, 'build.json')) ? (JSON.parse(await readFile(join(dir, 'build.json'), 'utf8')) as { insertS: number }) : null;
   return {
+    firstInsertS: build?.insertS ?? null,
     dbPath, runs: countOf(dbPath, 'runs'), robots: countOf(dbPath, 'robots'), flags: countOf(dbPath, 'flags'),
     reviews: countOf(dbPath, 'reviews'), bytes: (await stat(dbPath)).size, insertS,
   };

@@ -5,7 +5,7 @@
  */
 import { createHash } from 'node:crypto';
 import { existsSync } from 'node:fs';
-import { mkdir, rename, rm, stat } from 'node:fs/promises';
+import { mkdir, readFile, rename, rm, stat, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { makeRunSpec, writeLongRun, type RunSpec } from '@plumbline/simulator';
 
@@ -16,6 +16,8 @@ export interface ShiftWorkload {
   specHash: string;
   /** seconds spent generating it now; null when the cached file was reused */
   generatedS: number | null;
+  /** seconds the generation took when the cached file was made (build.json beside it) */
+  firstGeneratedS: number | null;
 }
 
 /** The Shift spec for a duration (8 h by default; the smoke mode uses minutes). */
@@ -50,8 +52,10 @@ export async function ensureShift(outRoot: string, spec: RunSpec = shiftSpec()):
     const t0 = performance.now();
     await writeLongRun(spec, tmp, { archive: 'tar.gz', nmea: true });
     generatedS = (performance.now() - t0) / 1000;
+    await writeFile(join(tmp, 'build.json'), `${JSON.stringify({ generatedS })}\n`);
     await rm(dir, { recursive: true, force: true });
     await rename(tmp, dir);
   }
-  return { path, bytes: (await stat(path)).size, spec, specHash: hash, generatedS };
+  const build = existsSync(join(dir, 'build.json')) ? (JSON.parse(await readFile(join(dir, 'build.json'), 'utf8')) as { generatedS: number }) : null;
+  return { path, bytes: (await stat(path)).size, spec, specHash: hash, generatedS, firstGeneratedS: build?.generatedS ?? null };
 }

@@ -15,13 +15,13 @@ export function formatTable(r: SuiteResult): string {
   const a = r.shiftAnalysis;
   if (a) {
     lines.push('', `Shift: ${a.counts.imu} IMU, ${a.counts.odometry} poses, ${a.counts.gnss} GNSS fixes, ${a.counts.loops} loop candidates; ` +
-      `.tar.gz ${((r.workloads.shift?.bytes ?? 0) / 1e6).toFixed(1)} MB; columns ${(a.columnarBytes / 1e6).toFixed(0)} MB`);
-    lines.push(`  read ${fmt(a.read.seconds)} s (RSS ${(a.read.maxRssBytes / 1e6).toFixed(0)} MB), analyse ${fmt(a.analyze.seconds)} s ` +
-      `(RSS ${(a.analyze.maxRssBytes / 1e6).toFixed(0)} MB, V8 heap peak ${((a.analyze.heapPeakBytes ?? 0) / 1e6).toFixed(0)} MB)`);
+      `.tar.gz ${((r.workloads.shift?.bytes ?? 0) / 1e6).toFixed(1)} MB (generated in ${fmt(r.workloads.shift?.generatedS ?? r.workloads.shift?.firstGeneratedS ?? Number.NaN)} s); columns ${(a.columnarBytes / 1e6).toFixed(0)} MB`);
+    lines.push(`  read ${fmt(a.read.seconds)} s (CPU ${fmt(a.read.cpuSeconds ?? Number.NaN)} s, RSS ${(a.read.maxRssBytes / 1e6).toFixed(0)} MB), analyse ${fmt(a.analyze.seconds)} s ` +
+      `(CPU ${fmt(a.analyze.cpuSeconds ?? Number.NaN)} s, RSS ${(a.analyze.maxRssBytes / 1e6).toFixed(0)} MB, V8 heap peak ${((a.analyze.heapPeakBytes ?? 0) / 1e6).toFixed(0)} MB)`);
   }
   if (r.ingest) lines.push(`ingest: API ${fmt(r.ingest.api.mbPerS)} MB/s, discarding server ${fmt(r.ingest.baseline.mbPerS)} MB/s`);
   if (r.list) lines.push(`run list: API ${fmt(r.list.api.requestsPerS)} req/s (p50 ${r.list.api.p50Ms} ms, p99 ${r.list.api.p99Ms} ms), constant ${fmt(r.list.baseline.requestsPerS)} req/s; body ${r.list.bodyBytes} B`);
-  if (r.workloads.fleet) lines.push(`Fleet: ${r.workloads.fleet.runs} runs, ${r.workloads.fleet.robots} robots, ${r.workloads.fleet.reviews} reviews; built in ${r.workloads.fleet.insertS === null ? '(cached)' : `${fmt(r.workloads.fleet.insertS)} s`}`);
+  if (r.workloads.fleet) lines.push(`Fleet: ${r.workloads.fleet.runs} runs, ${r.workloads.fleet.robots} robots, ${r.workloads.fleet.reviews} reviews; built in ${fmt(r.workloads.fleet.insertS ?? r.workloads.fleet.firstInsertS ?? Number.NaN)} s${r.workloads.fleet.insertS === null ? ' (when first cached)' : ''}`);
   for (const b of r.burst) {
     if ('skipped' in b) lines.push(`burst bullmq ×${b.workers}: skipped (${b.skipped})`);
     else lines.push(`burst ${b.queue} ×${b.workers}: ${b.done}/${b.jobs} done, ${b.exactlyOnce} exactly once, ${b.duplicates} duplicates, ${fmt(b.jobsPerS)} jobs/s`);
