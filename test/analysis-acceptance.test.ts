@@ -18,9 +18,7 @@ const MIN_IOU = 0.5;
  * on stdout so the entry can be deleted.
  */
 const KNOWN_MISSES: Partial<Record<string, string[]>> = {
-  'time-offset': ['tern-01/r0304-1500'],
   'scale-drift': ['plover-02/r0303-1100', 'plover-02/r0305-0900'],
-  'pose-jump': ['kestrel-02/r0304-0800'],
 };
 /** Faulty runs that tie clean runs because their only fault is one of the known misses above. */
 const KNOWN_UNRANKED = ['plover-02/r0303-1100'];

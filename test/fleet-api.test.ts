@@ -133,7 +133,7 @@ describe('GET /api/v1/feedback', () => {
     const body = r.json();
     expect(body.by_kind).toEqual([{ kind: 'time-offset', site: null, upheld: 4, dismissed: 3, rerun_needed: 0, precision: 4 / 7 }]);
     expect(body.by_kind_site).toHaveLength(2);
-    expect(body.suggestions[0]).toMatchObject({ kind: 'time-offset', ok: true, current_warn: 20, suggested_warn: 30, upheld_kept: 4, dismissed_kept: 0 });
+    expect(body.suggestions[0]).toMatchObject({ kind: 'time-offset', ok: true, current_warn: DEFAULT_POLICY.thresholds['time-offset'].warn, suggested_warn: 30, upheld_kept: 4, dismissed_kept: 0 });
   });
 });
 

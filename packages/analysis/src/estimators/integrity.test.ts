@@ -33,6 +33,14 @@ describe('saturation', () => {
     expect(runs.map((r) => [r.axis, r.samples])).toEqual([['ax', 7], ['gz', 1]]);
   });
 
+  it('does not count samples far beyond the declared range as clipping (a unit or range error, not saturation)', () => {
+    const imu = makeImu(400, 200);
+    for (let i = 0; i < 400; i++) imu.az[i] = 9.8;
+    for (let i = 100; i < 140; i++) imu.gz[i] = 30; // deg/s logged against a rad/s range of 8.7
+    imu.gz[200] = 8.7 * 1.005; // within a few codes of full scale: pinned
+    expect(findSaturation(imu, 8.7, 78.4532).map((r) => [r.axis, r.samples])).toEqual([['gz', 1]]);
+  });
+
   it('without a declared range, flags only exact repeats of the extreme value', () => {
     const imu = makeImu(400, 200);
     for (let i = 0; i < 400; i++) imu.ax[i] = Math.sin(i / 10);

@@ -63,8 +63,10 @@ export interface SaturationRun extends TimeInterval {
 const AXES = ['gx', 'gy', 'gz', 'ax', 'ay', 'az'] as const;
 
 /**
- * Runs of samples pinned at the sensor range limit, per axis. With a known range (manifest), a sample within 0.1 % of
- * ±range is pinned. Without it, the axis's largest |value| counts as the limit only where it repeats exactly over at
+ * Runs of samples pinned at the sensor range limit, per axis. With a known range (manifest), a sample within 0.1 % below
+ * to 1 % above ±range is pinned (a few codes of slack for the converter's full scale). A sample well beyond the range
+ * cannot come from the sensor: it means the stream's unit or the declared range is wrong, which the units check
+ * reports, so it is not counted as clipping. Without it, the axis's largest |value| counts as the limit only where it repeats exactly over at
  * least 3 consecutive samples (a clipped sensor repeats its limit code; real motion does not). Common practice.
  */
 export function findSaturation(imu: ImuColumns, gyroRangeRadS: number | null, accelRangeMS2: number | null): SaturationRun[] {
@@ -72,9 +74,10 @@ export function findSaturation(imu: ImuColumns, gyroRangeRadS: number | null, ac
   for (const axis of AXES) {
     const col = imu[axis];
     const range = axis[0] === 'g' ? gyroRangeRadS : accelRangeMS2;
-    let limit: number, minRun: number;
+    let limit: number, minRun: number, ceiling = Number.POSITIVE_INFINITY;
     if (range !== null) {
       limit = range * 0.999;
+      ceiling = range * 1.01;
       minRun = 1;
     } else {
       limit = 0;
@@ -89,7 +92,7 @@ export function findSaturation(imu: ImuColumns, gyroRangeRadS: number | null, ac
     let start = -1;
     for (let i = 0; i <= imu.n; i++) {
       const a = i < imu.n ? Math.abs(col[i]!) : 0;
-      const pinned = i < imu.n && (exact ? a === limit : a >= limit);
+      const pinned = i < imu.n && (exact ? a === limit : a >= limit && a <= ceiling);
       if (pinned && start < 0) start = i;
       else if (!pinned && start >= 0) {
         if (i - start >= minRun) out.push({ axis, tStart: imu.t[start]!, tEnd: imu.t[i - 1]!, samples: i - start });

@@ -50,6 +50,8 @@ export interface InertialFinding {
   value: number | null;
   unit: string;
   detail: string;
+  /** Named numbers for the flag's wording (e.g. loop χ², gate, dof); not policy values. */
+  params?: Record<string, number>;
 }
 
 export function scalar(value: number, sigma: number | null, unit: string): ScalarResult {

@@ -10,7 +10,7 @@ function segment(id: string, flags: Flag[]): Segment {
   return { id, t_start: Math.min(...flags.map((f) => f.t_start)), t_end: Math.max(...flags.map((f) => f.t_end)), distance_start_m: 0, distance_end_m: 0, severity: worst, kinds: [...new Set(flags.map((f) => f.kind))], flag_ids: flags.map((f) => f.id) };
 }
 const poseJump = flag('pose-jump-1', 'pose-jump', 'critical', 40, 45, 1.5); // 1.5 m ≥ 1 m critical (default policy)
-const offset = flag('time-offset-1', 'time-offset', 'warn', 70, 80, 25); // 25 ms: warn (20 ≤ 25 < 50)
+const offset = flag('time-offset-1', 'time-offset', 'warn', 70, 80, 25); // 25 ms: warn (10 ≤ 25 < 50)
 const report = (flags: Flag[]): MergeGateInput['report'] => ({
   flags,
   segments: flags.map((f, i) => segment(`segment-${i + 1}`, [f])),

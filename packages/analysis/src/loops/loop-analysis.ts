@@ -182,7 +182,8 @@ function loopFindings(loops: LoopResult[], th: PolicyThresholds): InertialFindin
   const driftWarn = th['loop-drift'].warn ?? Number.POSITIVE_INFINITY;
   for (const l of loops) {
     if (!l.accepted && l.chi2 !== null && l.chi2Threshold !== null) {
-      out.push({ kind: 'loop-mismatch', tStart: l.tA, tEnd: l.tB, value: l.chi2 / l.chi2Threshold, unit: 'chi2/gate', detail: `${l.source} loop excluded: χ² ${l.chi2.toFixed(1)} > ${l.chi2Threshold.toFixed(3)} (${l.dof} dof)` });
+      out.push({ kind: 'loop-mismatch', tStart: l.tA, tEnd: l.tB, value: l.chi2 / l.chi2Threshold, unit: 'chi2/gate', detail: `${l.source} loop excluded: χ² ${l.chi2.toFixed(1)} > ${l.chi2Threshold.toFixed(3)} (${l.dof} dof)`,
+        params: { chi2: l.chi2, gate: l.chi2Threshold, dof: l.dof, confidencePct: 100 * (1 - th.loop_gate_alpha) } });
     } else if (l.accepted && l.pathLength >= MIN_DRIFT_PATH && l.translationErrorPct >= driftWarn) {
       out.push({ kind: 'loop-drift', tStart: l.tA, tEnd: l.tB, value: l.translationErrorPct, unit: '%', detail: `${l.source} loop closes with ${l.translationErrorPct.toFixed(2)} % of ${l.pathLength.toFixed(0)} m and ${l.rotationErrorDegPerM.toFixed(4)} deg/m` });
     }

@@ -1,4 +1,4 @@
-import type { FlagKind } from '@plumbline/contracts';
+import type { FlagKind, Severity } from '@plumbline/contracts';
 
 /**
  * Plain-language text of each flag kind: what the finding means for the map, and what to check on the robot.
@@ -46,7 +46,7 @@ export const FLAG_WORDING: Record<FlagKind, { message: string; check: string }> 
     check: 'Check for low-texture or distant scenes and, for monocular odometry, for lack of acceleration.',
   },
   'loop-mismatch': {
-    message: 'A loop closure contradicts the odometry ({v} of the gate) and was excluded; merged as is, it would fold the map.',
+    message: 'A loop closure contradicts the odometry ({v}) and was excluded; merged as is, it would fold the map.',
     check: 'Look at the two places joined by the loop: repeated structures (aisles, racks) can fool place recognition.',
   },
   'loop-drift': {
@@ -70,7 +70,50 @@ export function formatValue(value: number | null, unit: string): string {
   return unit === '%' ? `${v} %` : `${v} ${unit}`;
 }
 
-export function wordFlag(kind: FlagKind, value: number | null, unit: string): { message: string; check: string } {
-  const w = FLAG_WORDING[kind];
-  return { message: w.message.replace('{v}', formatValue(value, unit)), check: w.check };
+/** Loop χ² against its gate, e.g. "χ² 476 against a 95 % gate of 12.59 for 6 dof"; the ratio when params are missing. */
+function loopValue(value: number | null, unit: string, p: Record<string, number> | undefined): string {
+  if (!p || p.chi2 === undefined || p.gate === undefined || p.dof === undefined) return `${formatValue(value, unit)} (χ² over its gate)`;
+  const conf = p.confidencePct !== undefined ? `${Number(p.confidencePct.toPrecision(3))} % ` : '';
+  return `χ² ${Number(p.chi2.toPrecision(4))} against a ${conf}gate of ${Number(p.gate.toPrecision(4))} for ${p.dof} dof`;
 }
+
+export interface WordingContext {
+  severity: Severity;
+  /** Threshold shown with the flag (the warn level for info flags). */
+  threshold: number | null;
+  params?: Record<string, number>;
+}
+
+/**
+ * Message and check of a flag. Warn and critical flags use the kind's text; an info flag of a kind with thresholds
+ * is a value within tolerance but at least INFO_FRACTION of the way to the warning level, and says so plainly.
+ */
+export function wordFlag(kind: FlagKind, value: number | null, unit: string, ctx?: WordingContext): { message: string; check: string } {
+  const w = FLAG_WORDING[kind];
+  const v = kind === 'loop-mismatch' ? loopValue(value, unit, ctx?.params) : formatValue(value, unit);
+  if (ctx && ctx.severity === 'info' && ctx.threshold !== null && kind !== 'unobservable') {
+    return {
+      message: `${KIND_LABEL[kind]} ${v}: within tolerance, approaching the limit (warning from ${formatValue(ctx.threshold, unit)}).`,
+      check: 'Nothing to fix now; watch this value on later runs of the robot.',
+    };
+  }
+  return { message: w.message.replace('{v}', v), check: w.check };
+}
+
+/** Short name of the measured quantity of each kind, for info messages. */
+const KIND_LABEL: Record<FlagKind, string> = {
+  'imu-gap': 'IMU gap',
+  'imu-saturation': 'Clipped IMU samples',
+  'odometry-gap': 'Odometry gap',
+  'pose-jump': 'Unexplained position step',
+  units: 'Unit ratio deviation',
+  'time-offset': 'Odometry − IMU time offset',
+  'rotation-mismatch': 'Gyro vs odometry rotation residual',
+  'extrinsic-rotation': 'IMU-to-odometry rotation vs calibration',
+  'gravity-tilt': 'Odometry world tilt from gravity',
+  'scale-drift': 'Scale deviation',
+  'loop-mismatch': 'Loop closure',
+  'loop-drift': 'Loop closure error',
+  'gnss-divergence': 'Odometry vs GNSS step',
+  unobservable: 'Unobservable stretch',
+};
