@@ -4,6 +4,7 @@
  * bounded. Bundles are analysed by the real analysis in the embedded worker.
  */
 import { existsSync } from 'node:fs';
+import { connect } from 'node:net';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
@@ -157,6 +158,40 @@ describe('malformed bundle corpus', () => {
     }
     expect(failures).toEqual([]);
   }, 240_000);
+
+  it('answers a chunked body (no Content-Length) running past the limit with 413 over a real socket', async () => {
+    const base = await t.app.listen({ port: 0, host: '127.0.0.1' });
+    const port = Number(new URL(base).port);
+    const chunk = Buffer.alloc(64 * 1024, 0x5a);
+    const answer = await new Promise<string>((resolve) => {
+      const sock = connect(port, '127.0.0.1', () => {
+        sock.write(`POST /api/v1/runs HTTP/1.1\r\nHost: 127.0.0.1\r\nAuthorization: Bearer ${t.tokens.robot}\r\nContent-Type: application/gzip\r\nTransfer-Encoding: chunked\r\n\r\n`);
+        let sent = 0;
+        const pump = () => {
+          while (sent <= 2 * CORPUS_MAX_UPLOAD_BYTES && !sock.destroyed) {
+            sent += chunk.length;
+            sock.write(`${chunk.length.toString(16)}\r\n`);
+            sock.write(chunk);
+            if (!sock.write('\r\n')) return void sock.once('drain', pump);
+          }
+          if (!sock.destroyed) sock.end('0\r\n\r\n');
+        };
+        pump();
+      });
+      let text = '';
+      sock.on('data', (d: Buffer) => {
+        text += d.toString('latin1');
+        // A complete problem body arrived: stop sending (the server no longer reads).
+        if (/\r\n\r\n[\s\S]*}/.test(text)) sock.destroy();
+      });
+      sock.on('close', () => resolve(text));
+      sock.on('error', () => undefined);
+    });
+    expect(answer.split('\r\n')[0]).toBe('HTTP/1.1 413 Payload Too Large');
+    expect(answer.toLowerCase()).toContain('connection: close');
+    expect(answer).toContain('"code":"BODY_TOO_LARGE"');
+    results.push({ id: 'chunked-over-limit', outcome: '413 BODY_TOO_LARGE' });
+  });
 
   it('leaves the runs stored before intact, byte for byte', async () => {
     expect(await fingerprint(t.db, t.blobs.dir, baseline)).toEqual(before);

@@ -30,6 +30,9 @@ async function fsyncDir(dir: string): Promise<void> {
 
 async function* chunksOf(source: Readable | AsyncIterable<Uint8Array> | Uint8Array): AsyncIterable<Uint8Array> {
   if (source instanceof Uint8Array) yield source;
+  // A request body left part-read must not be destroyed: that would reset the connection before the HTTP layer
+  // can answer (413 for a body past the limit). It is left paused; the server closes the connection after answering.
+  else if (typeof (source as Readable).iterator === 'function') yield* (source as Readable).iterator({ destroyOnReturn: false }) as AsyncIterable<Uint8Array>;
   else yield* source as AsyncIterable<Uint8Array>;
 }
 
@@ -45,7 +48,6 @@ async function pump(
   for await (const chunk of chunksOf(source)) {
     const bytes = typeof chunk === 'string' ? Buffer.from(chunk) : chunk;
     if (written + bytes.byteLength > limit) {
-      if (typeof (source as Readable).destroy === 'function') (source as Readable).destroy();
       throw new BlobTooLargeError(limit);
     }
     let off = 0;
