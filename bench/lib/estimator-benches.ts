@@ -41,6 +41,8 @@ export interface PoseGraphBenchResult {
   keyframes: number;
   loops: number;
   seconds: number;
+  /** CPU seconds of the solve when the script prints them (wall time suffers on a shared machine) */
+  cpuSeconds: number | null;
   iterations: number;
   worstErrorM: number;
   line: string;
@@ -51,6 +53,7 @@ export async function benchPoseGraph(): Promise<PoseGraphBenchResult> {
   const num = (re: RegExp) => Number(re.exec(out)?.[1] ?? Number.NaN);
   return {
     keyframes: num(/(\d+) keyframes/), loops: num(/(\d+) loops/), seconds: num(/total (\d+) ms/) / 1000,
+    cpuSeconds: /(\d+) ms CPU/.test(out) ? num(/(\d+) ms CPU/) / 1000 : null,
     iterations: num(/\((\d+) iterations/), worstErrorM: num(/truth ([\d.]+) m/), line: out,
   };
 }

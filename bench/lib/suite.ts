@@ -73,6 +73,10 @@ export function checks(r: SuiteResult): Check[] {
   if (a) {
     add('analyse Shift ÷ read Shift (time)', a.timeRatio, '≤ 2.0', a.timeRatio <= 2);
     add('analyse Shift, seconds', a.analyze.seconds, '≤ 30 s', a.analyze.seconds <= 30);
+    if (a.analyze.cpuSeconds !== undefined && a.read.cpuSeconds !== undefined) {
+      add('analyse Shift ÷ read Shift (CPU time)', a.analyze.cpuSeconds / a.read.cpuSeconds, '≤ 2.0', a.analyze.cpuSeconds / a.read.cpuSeconds <= 2);
+    }
+    if (a.analyze.cpuSeconds !== undefined) add('analyse Shift, CPU seconds (process)', a.analyze.cpuSeconds, '≤ 30 s', a.analyze.cpuSeconds <= 30);
     add('analyse Shift maxRSS ÷ columnar bytes', a.rssRatio, '≤ 3', a.rssRatio <= 3);
     add('analyse Shift maxRSS, GB', a.analyze.maxRssBytes / 1e9, '≤ 1.5 GB', a.analyze.maxRssBytes <= 1.5e9);
   }
@@ -87,6 +91,9 @@ export function checks(r: SuiteResult): Check[] {
   }
   if (r.inertial) add('inertial estimators, seconds', r.inertial.seconds, '< 5 s', r.inertial.seconds < 5);
   if (r.poseGraph) add('pose graph 30k/500, seconds', r.poseGraph.seconds, '< 5 s', r.poseGraph.seconds < 5);
+  if (r.poseGraph && r.poseGraph.cpuSeconds !== null && r.poseGraph.cpuSeconds !== undefined) {
+    add('pose graph 30k/500, CPU seconds', r.poseGraph.cpuSeconds, '< 5 s', r.poseGraph.cpuSeconds < 5);
+  }
   return out;
 }
 
