@@ -12,11 +12,12 @@ import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { expect } from 'vitest';
 import pino from 'pino';
-import { analyzeBundle, originalTrajectoryCsv, repairedTrajectoryCsv } from '@plumbline/analysis';
+import { originalTrajectoryCsv, repairedTrajectoryCsv } from '@plumbline/analysis';
 import { inspectBundle } from '@plumbline/bundle';
 import type { JobQueue } from '@plumbline/queue';
 import { startWorker } from '../services/worker/src/worker.ts';
 import { createThreadedAnalyze } from '../services/worker/src/threaded-analyze.ts';
+import { analyseWithTrajectory } from '../services/worker/src/analysis-output.ts';
 import { createTestApp } from '../services/api/src/testing.ts';
 import { pushBundle } from '../services/cli/src/push-client.ts';
 
@@ -89,7 +90,7 @@ export async function runServiceFlow(opts: {
     inspectBundle,
     ...(opts.makeQueue ? { makeQueue: opts.makeQueue } : {}),
     clock: { now: () => new Date() },
-    deps: { trajectoryCsv: (path, variant) => (variant === 'repaired' ? repairedTrajectoryCsv(path) : originalTrajectoryCsv(path)) },
+    deps: { trajectoryCsv: (path) => originalTrajectoryCsv(path) },
   });
   const threads = opts.threaded ? createThreadedAnalyze(1) : null;
   const worker = await startWorker(t.config, {
@@ -98,7 +99,7 @@ export async function runServiceFlow(opts: {
     queue: t.queue,
     logger: pino({ level: 'silent' }),
     clock: { now: () => new Date() },
-    analyze: threads ? threads.analyze : (path, policy) => analyzeBundle(path, policy),
+    analyze: threads ? threads.analyze : (path, policy) => analyseWithTrajectory(path, policy),
     dispatcherIntervalMs: 50,
   });
   try {
@@ -135,7 +136,10 @@ export async function runServiceFlow(opts: {
       const csv = await fetch(`${base}/api/v1/runs/${id}/trajectory.csv?variant=${variant}`, { headers: { authorization: `Bearer ${t.tokens.lead}` } });
       expect(csv.status).toBe(200);
       expect(csv.headers.get('content-type')).toMatch(/^text\/csv/);
-      const lines = (await csv.text()).trim().split('\n');
+      const text = await csv.text();
+      // The repaired trajectory is the one the worker stored at analysis time, the same bytes as the analysis package's export.
+      if (variant === 'repaired') expect(text).toBe(await repairedTrajectoryCsv(bundle.path));
+      const lines = text.trim().split('\n');
       expect(lines[0]).toMatch(/^t,/);
       // 40 s of odometry at the simulator's default 20 Hz: about 800 poses.
       expect(lines.length).toBeGreaterThan(700);

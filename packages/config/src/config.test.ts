@@ -14,6 +14,7 @@ describe('loadConfig defaults', () => {
     expect(c.maxUploadBytes).toBe(2 * 1024 ** 3);
     expect(c.demo).toBe(false);
     expect(c.corsOrigins).toEqual([]);
+    expect(c.apiUrl).toBeNull();
     expect(Object.isFrozen(c)).toBe(true);
   });
   it('treats empty strings as unset', () => {
@@ -30,7 +31,9 @@ describe('loadConfig values', () => {
       PLUMBLINE_DEMO: 'yes',
       PLUMBLINE_CORS_ORIGINS: 'https://a.example, https://b.example',
       PLUMBLINE_LOG_LEVEL: 'debug',
+      PLUMBLINE_API_URL: 'https://plumbline.saltmarsh.example/',
     });
+    expect(c.apiUrl).toBe('https://plumbline.saltmarsh.example');
     expect(c.port).toBe(9000);
     expect(c.mode).toBe('redis');
     expect(c.workerConcurrency).toBe(3);
@@ -49,6 +52,7 @@ describe('loadConfig errors', () => {
     ['PLUMBLINE_DEMO', 'maybe', /PLUMBLINE_DEMO is "maybe"/],
     ['PLUMBLINE_MAX_UPLOAD_BYTES', '-1', /PLUMBLINE_MAX_UPLOAD_BYTES is "-1"/],
     ['PLUMBLINE_PUBLIC_URL', 'not a url', /PLUMBLINE_PUBLIC_URL/],
+    ['PLUMBLINE_API_URL', 'ftp://api.example', /PLUMBLINE_API_URL is "ftp:\/\/api.example": expected base URL of the API/],
   ];
   for (const [name, value, re] of cases) {
     it(`names ${name}=${value}`, () => {
@@ -68,7 +72,7 @@ describe('loadConfig errors', () => {
 describe('configReference', () => {
   it('lists every variable once', () => {
     const table = configReference();
-    expect(table.match(/^\| `PLUMBLINE_/gm)?.length).toBe(13);
+    expect(table.match(/^\| `PLUMBLINE_/gm)?.length).toBe(14);
     expect(table).toContain('| `REDIS_URL` | (unset) |');
     expect(table).toContain('| `PLUMBLINE_PORT` | `8640` |');
   });

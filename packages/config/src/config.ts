@@ -31,7 +31,16 @@ export const CONFIG_VARIABLES = {
   PLUMBLINE_POLICY_FILE: z.string().min(1).optional().describe('triage policy JSON file (name, version, thresholds, overrides); unset = built-in policy'),
   PLUMBLINE_DEMO: boolFlag.default(false).describe('demo mode: create tokens and load seed-runs/ at start (1/0, true/false)'),
   PLUMBLINE_PUBLIC_URL: z.url().optional().describe('base URL clients use to reach the API, e.g. https://plumbline.example.net'),
-  PLUMBLINE_TOKEN: z.string().min(8).optional().describe('API token used by `plumbline push` when --token is not given (never logged)'),
+  PLUMBLINE_TOKEN: z
+    .string()
+    .min(8)
+    .optional()
+    .describe('API token used by `plumbline push` when --token is not given, and (admin role) by a remote worker (never logged)'),
+  PLUMBLINE_API_URL: z
+    .url()
+    .regex(/^https?:\/\//, 'an http:// or https:// URL')
+    .optional()
+    .describe('base URL of the API for a remote worker (`npm run worker` on another host): no database; results go over HTTP with PLUMBLINE_TOKEN'),
   PLUMBLINE_CORS_ORIGINS: z
     .string()
     .default('')
@@ -59,8 +68,10 @@ export interface Config {
   readonly demo: boolean;
   readonly publicUrl: string | null;
   readonly corsOrigins: readonly string[];
-  /** Client-side: the token `plumbline push` sends. */
+  /** Client-side: the token `plumbline push` sends; a remote worker's admin token. */
   readonly token: string | null;
+  /** Remote worker: the API base URL (results over HTTP, no database); null = the worker opens the database. */
+  readonly apiUrl: string | null;
 }
 
 /** Start-up configuration error; the message names the variable, the value seen and what was expected. */
@@ -113,6 +124,7 @@ function toConfig(p: Parsed): Config {
     demo: p.PLUMBLINE_DEMO,
     publicUrl: p.PLUMBLINE_PUBLIC_URL ?? null,
     token: p.PLUMBLINE_TOKEN ?? null,
+    apiUrl: p.PLUMBLINE_API_URL ? p.PLUMBLINE_API_URL.replace(/\/+$/, '') : null,
     corsOrigins: Object.freeze(
       p.PLUMBLINE_CORS_ORIGINS.split(',')
         .map((s) => s.trim())

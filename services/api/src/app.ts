@@ -22,6 +22,7 @@ import { registerDocRoutes } from './routes/docs.ts';
 import { registerFleetRoutes } from './routes/fleet-routes.ts';
 import { registerPolicyRoutes } from './routes/fleet-policies.ts';
 import { registerMergeGateRoutes } from './routes/merge-gate.ts';
+import { registerAnalysisResultRoutes } from './routes/analysis-results.ts';
 
 export type { ApiContext, AppDeps, Clock, InspectBundle, TrajectoryCsv } from './context.ts';
 
@@ -73,6 +74,7 @@ export async function buildApp(config: Config, deps: AppDeps): Promise<FastifyIn
   registerFleetRoutes(ctx);
   registerPolicyRoutes(ctx);
   registerMergeGateRoutes(ctx);
+  registerAnalysisResultRoutes(ctx);
   registerDocRoutes(ctx);
   if (deps.dashboardDir) await registerStatic(app, deps.dashboardDir);
   return Object.assign(app, { metrics });

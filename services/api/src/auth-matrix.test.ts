@@ -55,6 +55,8 @@ const EXPECTED: Record<string, { method: string; url: string; roles: Role[] | 'p
   createPolicy: { method: 'POST', url: '/api/v1/policies', roles: ['admin'], body: {} },
   getPolicyChanges: { method: 'GET', url: '/api/v1/policies/p1/changes', roles: READ },
   applyPolicy: { method: 'POST', url: '/api/v1/policies/p1/apply', roles: ['admin'], body: {} },
+  startAnalysis: { method: 'POST', url: '/api/v1/runs/r1/analysis/start', roles: ['admin'], body: { job_key: 'r1-g1' } },
+  postAnalysisResult: { method: 'POST', url: '/api/v1/runs/r1/analysis', roles: ['admin'], body: { job_key: 'r1-g1', failed: { reason: 'x' } } },
   mergeGate: { method: 'POST', url: '/api/v1/merge-gate', roles: ['integrator', 'lead', 'admin'], body: { runs: ['r1'] } },
   health: { method: 'GET', url: '/healthz', roles: 'public' },
   ready: { method: 'GET', url: '/readyz', roles: 'public' },

@@ -16,7 +16,10 @@ export interface Clock {
 /** What upload validation needs from a bundle: its parsed manifest. Throws BundleError for a bad archive. */
 export type InspectBundle = (archivePath: string) => Promise<{ manifest: contracts.RunManifest }>;
 
-/** A trajectory as CSV for the download route; `repaired` applies the analysis corrections. */
+/**
+ * The trajectory of a bundle as CSV for the download route. The route asks only for `original`: the repaired
+ * trajectory is produced by the worker at analysis time and stored as a blob with the report.
+ */
 export type TrajectoryCsv = (archivePath: string, variant: 'original' | 'repaired') => Promise<string | Readable>;
 
 export interface AppDeps {

@@ -53,6 +53,11 @@ export const errors = {
   TOKEN_NOT_FOUND: createAppError('TOKEN_NOT_FOUND', 'No active token %s', 404),
   WEBHOOK_NOT_FOUND: createAppError('WEBHOOK_NOT_FOUND', 'No active webhook %s', 404),
   REPORT_NOT_READY: createAppError('REPORT_NOT_READY', 'Run %s has no report yet (status %s)', 409),
+  TRAJECTORY_NOT_STORED: createAppError(
+    'TRAJECTORY_NOT_STORED',
+    'The current report of run %s was recorded without a repaired trajectory; re-analyse the run to produce one',
+    409,
+  ),
   VALIDATION_FAILED: createAppError('VALIDATION_FAILED', 'Invalid %s: %s', 400),
   INVALID_CURSOR: createAppError('INVALID_CURSOR', 'The cursor was not issued by this server or has expired', 400),
   UNSUPPORTED_MEDIA_TYPE: createAppError('UNSUPPORTED_MEDIA_TYPE', 'Content type %s is not accepted here; send %s', 415),

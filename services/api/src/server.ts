@@ -6,11 +6,11 @@
 import { mkdirSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
 import type { Logger } from 'pino';
-import { loadConfig, loadPolicy, type Config } from '@plumbline/config';
+import { loadConfig, type Config } from '@plumbline/config';
 import { createBlobStore, createStore, openDatabase, type Db } from '@plumbline/store';
 import { createQueue } from '@plumbline/queue';
 import { inspectBundle } from '@plumbline/bundle';
-import { originalTrajectoryCsv, repairedTrajectoryCsv } from '@plumbline/analysis';
+import { originalTrajectoryCsv } from '@plumbline/analysis';
 import { buildApp, type AppDeps } from './app.ts';
 import { createLogger } from './logger.ts';
 import { createServiceMetrics } from './metrics.ts';
@@ -28,7 +28,6 @@ export function openResources(config: Config, logger: Logger, extra: Partial<App
   mkdirSync(config.dataDir, { recursive: true });
   const db = openDatabase(config.dbPath);
   const queue = createQueue(config.redisUrl ? { redisUrl: config.redisUrl } : {}, db);
-  const policy = loadPolicy(config.policyFile);
   const deps: AppDeps = {
     store: createStore(db),
     blobs: createBlobStore(config.blobDir),
@@ -36,8 +35,8 @@ export function openResources(config: Config, logger: Logger, extra: Partial<App
     logger,
     clock: { now: () => new Date() },
     inspectBundle,
-    // The repaired trajectory is recomputed from the bundle (the analysis is deterministic under one policy).
-    trajectoryCsv: (path, variant) => (variant === 'repaired' ? repairedTrajectoryCsv(path, policy) : originalTrajectoryCsv(path)),
+    // The original trajectory is read from the bundle; the repaired one is stored by the worker with the report.
+    trajectoryCsv: (path) => originalTrajectoryCsv(path),
     metrics: createServiceMetrics(),
     dashboardDir: DEFAULT_DASHBOARD_DIR,
     ...extra,

@@ -1,10 +1,11 @@
 /**
  * Runs inside a worker thread: analyses bundles on request so the CPU-bound analysis never blocks the event loop of
- * the process that serves HTTP. Messages: `{ id, path, policy }` in; `{ id, report }` or `{ id, error }` out.
+ * the process that serves HTTP. Messages: `{ id, path, policy }` in; `{ id, report, repairedCsvGz }` or `{ id, error }`
+ * out (the gzipped trajectory bytes are transferred, not copied).
  */
 import { parentPort } from 'node:worker_threads';
-import { analyzeBundle } from '@plumbline/analysis';
 import type { Policy } from '@plumbline/contracts';
+import { analyseWithTrajectory } from './analysis-output.ts';
 
 export interface ThreadRequest {
   id: number;
@@ -25,8 +26,11 @@ export interface ThreadError {
 const port = parentPort;
 if (!port) throw new Error('analysis-thread.ts must run in a worker thread');
 port.on('message', (req: ThreadRequest) => {
-  analyzeBundle(req.path, req.policy).then(
-    (report) => port.postMessage({ id: req.id, report }),
+  analyseWithTrajectory(req.path, req.policy).then(
+    ({ report, repairedCsvGz }) => {
+      const gz = repairedCsvGz ? new Uint8Array(repairedCsvGz) : null;
+      port.postMessage({ id: req.id, report, repairedCsvGz: gz }, gz ? [gz.buffer] : []);
+    },
     (err: unknown) => {
       const e = err as Error & Omit<ThreadError, 'name' | 'message'>;
       const error: ThreadError = { name: e.name ?? 'Error', message: e.message ?? String(err), code: e.code, file: e.file, line: e.line, column: e.column };

@@ -4,7 +4,8 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { analyzeBundle } from '@plumbline/analysis';
+import { gunzipSync } from 'node:zlib';
+import { analyzeBundle, repairedTrajectoryCsv } from '@plumbline/analysis';
 import { DEFAULT_POLICY } from '@plumbline/contracts';
 import { createThreadedAnalyze, type ThreadedAnalyze } from './threaded-analyze.ts';
 
@@ -25,8 +26,16 @@ afterAll(async () => {
 describe('analysis in a worker thread', () => {
   it('gives the same report as the analysis in this thread', async () => {
     const path = join(dir, 'bundle.tar.gz');
-    const [inThread, here] = await Promise.all([threaded.analyze(path, DEFAULT_POLICY), analyzeBundle(path, DEFAULT_POLICY)]);
-    expect(inThread).toEqual(here);
+    const [inThread, here, csv] = await Promise.all([
+      threaded.analyze(path, DEFAULT_POLICY),
+      analyzeBundle(path, DEFAULT_POLICY),
+      repairedTrajectoryCsv(path, DEFAULT_POLICY),
+    ]);
+    expect('repairedCsvGz' in inThread && inThread.report).toEqual(here);
+    // The trajectory produced alongside the report is byte-identical to the analysis package's own export.
+    const gz = 'repairedCsvGz' in inThread ? inThread.repairedCsvGz : null;
+    expect(gz).not.toBeNull();
+    expect(gunzipSync(gz!).toString('utf8')).toBe(csv);
   }, 60_000);
   it('passes bundle errors through with their name, code and file', async () => {
     const bad = join(dir, 'not-a-bundle.tar.gz');

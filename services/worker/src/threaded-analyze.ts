@@ -1,5 +1,6 @@
 import { Worker } from 'node:worker_threads';
 import type { Report } from '@plumbline/contracts';
+import type { AnalysisOutput } from './analysis-output.ts';
 import type { Analyze } from './processors/analyse-run.ts';
 import type { ThreadError } from './analysis-thread.ts';
 
@@ -32,7 +33,7 @@ export interface ThreadedAnalyze {
  * pending requests (the queue retries them) and is replaced on the next request.
  */
 export function createThreadedAnalyze(threads = 1): ThreadedAnalyze {
-  type Pending = { resolve(r: Report): void; reject(e: Error): void };
+  type Pending = { resolve(r: AnalysisOutput): void; reject(e: Error): void };
   const slots: Array<{ worker: Worker; pending: Map<number, Pending> } | null> = Array.from({ length: Math.max(1, threads) }, () => null);
   let nextId = 1;
   let turn = 0;
@@ -41,11 +42,11 @@ export function createThreadedAnalyze(threads = 1): ThreadedAnalyze {
     const pending = new Map<number, Pending>();
     const worker = new Worker(BOOT, { workerData: { entry: ENTRY } });
     worker.unref();
-    worker.on('message', (m: { id: number; report?: Report; error?: ThreadError }) => {
+    worker.on('message', (m: { id: number; report?: Report; repairedCsvGz?: Uint8Array | null; error?: ThreadError }) => {
       const p = pending.get(m.id);
       pending.delete(m.id);
       if (m.error) p?.reject(new ThreadedAnalysisError(m.error));
-      else if (m.report) p?.resolve(m.report);
+      else if (m.report) p?.resolve({ report: m.report, repairedCsvGz: m.repairedCsvGz ?? null });
     });
     const fail = (err: Error) => {
       for (const p of pending.values()) p.reject(err);
@@ -64,7 +65,7 @@ export function createThreadedAnalyze(threads = 1): ThreadedAnalyze {
       const i = turn++ % slots.length;
       const slot = slots[i] ?? spawn(i);
       const id = nextId++;
-      return new Promise<Report>((resolve, reject) => {
+      return new Promise<AnalysisOutput>((resolve, reject) => {
         slot.pending.set(id, { resolve, reject });
         slot.worker.postMessage({ id, path, policy });
       });

@@ -7,6 +7,8 @@ import { startWebhookDispatcher, type WebhookDispatcher } from './webhooks/dispa
 import { createPolicyResolver } from './policy.ts';
 import { startMaintenance } from './maintenance.ts';
 import { createAfterRecorded, withStoredPolicies } from './fleet-hooks.ts';
+import { createLocalLedger } from './ledger/local-ledger.ts';
+import type { AnalysisLedger } from './ledger/ledger.ts';
 
 export interface WorkerDeps {
   store: Store;
@@ -35,15 +37,18 @@ export interface RunningWorker {
  */
 export async function startWorker(config: Pick<Config, 'workerConcurrency' | 'policyFile'>, deps: WorkerDeps): Promise<RunningWorker> {
   const policyFor = withStoredPolicies(deps.store, createPolicyResolver(config.policyFile));
-  const processor = createAnalyseRunProcessor({
+  const ledger = createLocalLedger({
     store: deps.store,
     blobs: deps.blobs,
-    analyze: deps.analyze,
     policyFor,
-    logger: deps.logger.child({ component: 'worker' }),
     clock: deps.clock,
-    maxAttempts: deps.maxAttempts ?? 5,
     afterRecorded: createAfterRecorded(deps.store, deps.logger.child({ component: 'fleet' })),
+  });
+  const processor = createAnalyseRunProcessor({
+    ledger,
+    analyze: deps.analyze,
+    logger: deps.logger.child({ component: 'worker' }),
+    maxAttempts: deps.maxAttempts ?? 5,
     ...(deps.onJobFinished ? { onJobFinished: deps.onJobFinished } : {}),
   });
   const recover = async (): Promise<number> => {
@@ -74,6 +79,32 @@ export async function startWorker(config: Pick<Config, 'workerConcurrency' | 'po
       await dispatcher.stop();
     },
   };
+}
+
+export interface RemoteWorkerDeps {
+  /** Usually `createRemoteLedger(...)`: the API over HTTP instead of the database. */
+  ledger: AnalysisLedger;
+  queue: JobQueue;
+  logger: Logger;
+  analyze: Analyze;
+  maxAttempts?: number;
+  onJobFinished?: AnalyseRunDeps['onJobFinished'];
+}
+
+/**
+ * A worker on another host (Redis mode with PLUMBLINE_API_URL): only analysis jobs, through the API. Webhook delivery,
+ * upload housekeeping and the re-enqueue of pending runs need the database, so they stay with the API host's worker.
+ */
+export function startRemoteWorker(config: Pick<Config, 'workerConcurrency'>, deps: RemoteWorkerDeps): { close(): Promise<void> } {
+  const processor = createAnalyseRunProcessor({
+    ledger: deps.ledger,
+    analyze: deps.analyze,
+    logger: deps.logger.child({ component: 'worker' }),
+    maxAttempts: deps.maxAttempts ?? 5,
+    ...(deps.onJobFinished ? { onJobFinished: deps.onJobFinished } : {}),
+  });
+  const qw = deps.queue.work(processor, { concurrency: config.workerConcurrency });
+  return { close: () => qw.close() };
 }
 
 /** Embedded mode: the worker runs in the API process against the same database and embedded queue. */

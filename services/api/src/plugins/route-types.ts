@@ -23,6 +23,8 @@ export interface RouteSpec<P extends z.ZodType, Q extends z.ZodType, B extends z
   query?: Q;
   /** JSON request body, validated. */
   body?: B;
+  /** Largest JSON body in bytes, when a route needs more than the app's default (1 MiB). */
+  bodyLimit?: number;
   /** Streamed request body (the route reads it itself). */
   rawBody?: RawContent;
   /** Response schemas by status; JSON responses are validated against them before they are sent. */

@@ -36,6 +36,7 @@ export function defineRoute<P extends z.ZodType, Q extends z.ZodType, B extends 
     method: spec.method,
     url: spec.url,
     config: { operationId: spec.operationId },
+    ...(spec.bodyLimit ? { bodyLimit: spec.bodyLimit } : {}),
     handler: async (req, reply) => {
       const principal = spec.auth === 'public' ? (null as unknown as Principal) : ctx.authenticate(req, spec.auth);
       if (spec.preHandler) await spec.preHandler(req);

@@ -1,5 +1,6 @@
 import { open } from 'node:fs/promises';
-import type { Readable } from 'node:stream';
+import { pipeline, type Readable } from 'node:stream';
+import { createGunzip } from 'node:zlib';
 import type { FastifyRequest } from 'fastify';
 import { z } from 'zod';
 import { AuditEntry, Report, RunDetail, RunListPage, RunListQuery, RunSummary } from '@plumbline/contracts';
@@ -30,6 +31,17 @@ async function bundleSource(req: FastifyRequest): Promise<Readable> {
   }
   if (BUNDLE_CONTENT_TYPES.includes(ct)) return req.body as Readable;
   throw errors.UNSUPPORTED_MEDIA_TYPE(ct || '(none)', `${BUNDLE_CONTENT_TYPES.join(', ')} or multipart/form-data`);
+}
+
+/** True when an Accept-Encoding header admits gzip (RFC 9110 §12.5.3: `gzip` or `*` with a non-zero weight). */
+export function acceptsGzip(header: string | undefined): boolean {
+  for (const part of (header ?? '').toLowerCase().split(',')) {
+    const [coding, ...params] = part.trim().split(';');
+    if (coding !== 'gzip' && coding !== 'x-gzip' && coding !== '*') continue;
+    const q = params.map((p) => /^\s*q=([0-9.]+)\s*$/.exec(p)?.[1]).find((v) => v !== undefined);
+    if (q === undefined || Number(q) > 0) return true;
+  }
+  return false;
 }
 
 async function sniffArchive(path: string): Promise<{ type: string; ext: string }> {
@@ -99,20 +111,30 @@ export function registerRunRoutes(ctx: ApiContext): void {
       method: 'GET',
       url: '/api/v1/runs/:id/trajectory.csv',
       operationId: 'getTrajectoryCsv',
-      summary: 'The odometry trajectory as CSV, as recorded or with the report corrections applied',
+      summary:
+        'The odometry trajectory as CSV, as recorded or with the report corrections applied (repaired: produced at analysis time, sent gzip-encoded when the client accepts it)',
       tag: 'runs',
       auth: ALL_ROLES,
       params: IdParams,
       query: TrajectoryQuery,
       responses: { 200: { contentTypes: ['text/csv'], description: 'CSV with a header line' } },
     },
-    async (_req, { params, query, principal }, reply) => {
+    async (req, { params, query, principal }, reply) => {
       const run = visibleRun(ctx, principal, params.id);
       const report = store.reports.current(run.id);
       if (!report) throw errors.REPORT_NOT_READY(run.id, run.status);
-      if (!ctx.deps.trajectoryCsv) throw errors.NOT_READY('trajectory export is not available in this deployment');
-      const csv = await ctx.deps.trajectoryCsv(blobs.pathOf(run.sha256), query.variant);
       reply.header('content-disposition', `attachment; filename="${run.robot_id}_${run.run_id}_${query.variant}.csv"`);
+      if (query.variant === 'repaired') {
+        // Stored gzipped by the worker at analysis time; never recomputed here.
+        const sha = store.reports.repairedCsvOf(run.id);
+        if (!sha) throw errors.TRAJECTORY_NOT_STORED(run.id);
+        reply.header('vary', 'accept-encoding');
+        reply.type('text/csv; charset=utf-8');
+        if (acceptsGzip(req.headers['accept-encoding'])) return reply.header('content-encoding', 'gzip').send(blobs.open(sha));
+        return reply.send(pipeline(blobs.open(sha), createGunzip(), () => undefined));
+      }
+      if (!ctx.deps.trajectoryCsv) throw errors.NOT_READY('trajectory export is not available in this deployment');
+      const csv = await ctx.deps.trajectoryCsv(blobs.pathOf(run.sha256), 'original');
       return reply.type('text/csv; charset=utf-8').send(csv);
     },
   );

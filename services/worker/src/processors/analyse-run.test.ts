@@ -5,6 +5,7 @@ import { scriptedReport } from '../testing.ts';
 import { createBlobStore, createStore, openDatabase, type Db, type Store } from '@plumbline/store';
 import { UnrecoverableJobError } from '@plumbline/queue';
 import { createAnalyseRunProcessor, type Analyze } from './analyse-run.ts';
+import { createLocalLedger } from '../ledger/local-ledger.ts';
 
 /**
  * Processor tests with a scripted `analyze` seam: these check the run life cycle around the analysis (status
@@ -32,8 +33,8 @@ function setup(analyze: Analyze, policyFor: (n: string | null) => Policy | null 
   const ticket = store.runs.requestAnalysis(run.id);
   if (!ticket) throw new Error('no ticket');
   const processor = createAnalyseRunProcessor({
-    store, blobs: createBlobStore('/nonexistent-blobs'), analyze, policyFor, logger: pino({ level: 'silent' }),
-    clock: { now: () => new Date('2026-12-01T08:00:00Z') }, maxAttempts: 3,
+    ledger: createLocalLedger({ store, blobs: createBlobStore('/nonexistent-blobs'), policyFor, clock: { now: () => new Date('2026-12-01T08:00:00Z') } }),
+    analyze, logger: pino({ level: 'silent' }), maxAttempts: 3,
     onJobFinished: (_d, o) => outcomes.push(o),
   });
   const job = (attempt: number, key = ticket.job_key) => ({ id: key, attempt, payload: { run: run.id, sha256: ticket.sha256, attempt_tag: key } });
