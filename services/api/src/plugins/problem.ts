@@ -74,8 +74,9 @@ export function sendProblem(reply: FastifyReply, req: FastifyRequest, appErr: Ap
   };
   if ((appErr.statusCode === 429 || appErr.statusCode === 503) && typeof appErr.extra.retry_after_s === 'number') reply.header('retry-after', appErr.extra.retry_after_s);
   if (appErr.statusCode === 401) reply.header('www-authenticate', 'Bearer realm="plumbline"');
-  // The rest of an oversized body is never read: close the connection after answering (RFC 9110, 15.5.14).
-  if (appErr.statusCode === 413) reply.header('connection', 'close');
+  // The rest of a refused body is never read (oversized, or storage failed mid-way): close the connection after
+  // answering rather than leave the client blocked on a connection nobody reads (RFC 9110, 15.5.14).
+  if (appErr.statusCode === 413 || req.raw.complete === false) reply.header('connection', 'close');
   return reply.code(appErr.statusCode).type('application/problem+json').send(body);
 }
 
