@@ -125,7 +125,7 @@ export async function runSuite(sizes: Sizes, opts: SuiteOptions): Promise<SuiteR
     return w.path;
   };
   await step('analysis', async () => void (r.shiftAnalysis = await benchShiftAnalysis(await shift())));
-  await step('ingest', async () => void (r.ingest = await benchIngest(await shift(), opts.outRoot)));
+  await step('ingest', async () => void (r.ingest = await benchIngest(await shift(), opts.outRoot, sizes.name === 'full' ? 3 : 1)));
   await step('list', async () => {
     const fleet = await ensureFleet(opts.outRoot, sizes.fleetRuns, sizes.fleetRobots);
     r.workloads.fleet = fleet;
