@@ -4,7 +4,7 @@ import type { BlobInfo, Store } from '@plumbline/store';
 import type { JobQueue } from '@plumbline/queue';
 import type { AppDeps } from './context.ts';
 import { actorOf, type Principal } from './plugins/auth.ts';
-import { errors } from './errors.ts';
+import { AppError, errors } from './errors.ts';
 
 /**
  * Starts a new analysis generation of a run and enqueues it. The job key doubles as the queue job id, so a
@@ -36,9 +36,33 @@ function withoutStorageName(e: unknown, path: string): unknown {
  * After a bundle is stored: check its manifest, create the run (`received`), enqueue it (`queued`).
  * Archive and manifest problems are refused here with 422 (nothing is stored as a run); problems inside the data
  * streams are found by the analysis, which then marks the run `rejected` with the reason.
- * Idempotent on (robot_id, run_id, sha256); the same run id with other content is a 409.
+ * Idempotent on (robot_id, run_id, sha256); the same run id with other content is a 409. A refused bundle's blob is
+ * removed when no run references it.
  */
 export async function ingestBlob(
+  deps: Pick<AppDeps, 'store' | 'queue' | 'inspectBundle' | 'blobs'>,
+  principal: Principal,
+  blob: BlobInfo,
+  declared?: { robot_id: string; run_id: string },
+): Promise<{ run: RunSummary; created: boolean }> {
+  try {
+    return await createRun(deps, principal, blob, declared);
+  } catch (err) {
+    // A refused bundle (bad archive or manifest, another robot's run, conflicting content) leaves nothing behind: its
+    // blob goes unless a run references the same bytes. A transient failure keeps it: a retried finish needs it.
+    if (isRefusal(err)) await deps.blobs.remove(blob.sha256, { isReferenced: (sha) => deps.store.runs.blobReferenced(sha) }).catch(() => undefined);
+    throw err;
+  }
+}
+
+/** A refusal of the bundle itself (4xx, bundle or conflict error), as opposed to a transient failure worth a retry. */
+export function isRefusal(e: unknown): boolean {
+  if (e instanceof AppError) return e.statusCode < 500;
+  const name = (e as Error | undefined)?.name;
+  return name === 'BundleError' || name === 'RunConflictError';
+}
+
+async function createRun(
   deps: Pick<AppDeps, 'store' | 'queue' | 'inspectBundle'>,
   principal: Principal,
   blob: BlobInfo,

@@ -46,9 +46,18 @@ describe('one-shot upload', () => {
     expect(r.json().run.sha256).toBe(sha(b));
   });
   it('refuses a bundle of another robot with 403 ROBOT_MISMATCH', async () => {
-    const r = await postRun(await testBundle({ robot_id: 'plover-02', run_id: 'x' }));
+    const b = await testBundle({ robot_id: 'plover-02', run_id: 'x' });
+    const r = await postRun(b);
     expect(r.statusCode).toBe(403);
     expect(r.json().code).toBe('ROBOT_MISMATCH');
+    // Stored while streaming, then refused: the blob is removed (no run references it).
+    expect(await t.blobs.has(sha(b))).toBe(false);
+  });
+  it('keeps the blob of a refused re-send when an accepted run has the same bytes', async () => {
+    const b = await testBundle({ robot_id: 'plover-01', run_id: 'shared-bytes' });
+    expect((await postRun(b, 'admin')).statusCode).toBe(201);
+    expect((await postRun(b, 'robot')).statusCode).toBe(403);
+    expect(await t.blobs.has(sha(b))).toBe(true);
   });
   it('lets an admin upload for any robot', async () => {
     const r = await postRun(await testBundle({ robot_id: 'plover-02', run_id: 'by-admin' }), 'admin');
@@ -63,6 +72,7 @@ describe('one-shot upload', () => {
     expect(p).toMatchObject({ code: 'BUNDLE_INVALID', type: '/reference#problem-bundle-invalid', file: 'run.json', line: 3 });
     expect(typeof p.column).toBe('number');
     expect(p.bundle_code).toBe('MANIFEST_SYNTAX');
+    expect(await t.blobs.has(sha(await testBundle({}, text)))).toBe(false);
   });
   it('refuses bytes that are not an archive and an unsupported content type', async () => {
     const r = await postRun(Buffer.from('hello, this is not an archive'));

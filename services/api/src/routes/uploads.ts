@@ -3,8 +3,8 @@ import { z } from 'zod';
 import { RunSummary, UploadSession, UploadSessionCreate } from '@plumbline/contracts';
 import type { UploadSessionRecord } from '@plumbline/store';
 import type { ApiContext } from '../context.ts';
-import { AppError, errors } from '../errors.ts';
-import { ingestBlob } from '../ingest.ts';
+import { errors } from '../errors.ts';
+import { ingestBlob, isRefusal } from '../ingest.ts';
 import type { Principal } from '../plugins/auth.ts';
 import { defineRoute } from '../plugins/route.ts';
 import { assertLengthWithin, IdParams, uploadRateLimit } from './common.ts';
@@ -13,12 +13,6 @@ const UPLOADERS = ['robot', 'admin'] as const;
 const SESSION_TTL_MS = 24 * 3600 * 1000;
 const OffsetQuery = z.object({ offset: z.coerce.number().int().min(0) }).strict();
 const Finished = z.object({ run: RunSummary, created: z.boolean() }).strict();
-
-function isRefusal(e: unknown): boolean {
-  if (e instanceof AppError) return e.statusCode < 500;
-  const name = (e as Error | undefined)?.name;
-  return name === 'BundleError' || name === 'RunConflictError';
-}
 
 function publicSession(s: UploadSessionRecord): UploadSession {
   const { id, robot_id, run_id, size_bytes, sha256, received_bytes, state, expires_at, run } = s;

@@ -1,4 +1,3 @@
-import { existsSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
 import { loadConfig } from '@plumbline/config';
 import { createLogger, openResources, startServer, DEFAULT_DASHBOARD_DIR } from '@plumbline/api';
@@ -7,9 +6,11 @@ import { EXIT, parseFlags, type Command } from '../args.ts';
 import { ensureDemoTokens } from '../demo-tokens.ts';
 import { findSeeds, loadSeeds } from '../seeds.ts';
 import { runNodeScript } from './simulate.ts';
+import { dashboardBuildIsStale } from '../dashboard-freshness.ts';
 
 const ROOT = fileURLToPath(new URL('../../../../', import.meta.url));
 const DASHBOARD_BUILD = `${ROOT}services/dashboard/build.ts`;
+const DASHBOARD_SOURCES = [`${ROOT}services/dashboard/src`, DASHBOARD_BUILD];
 
 const USAGE = `Usage: plumbline serve [--demo] [--seed-dir DIR]
 
@@ -17,7 +18,7 @@ Starts the HTTP API and the dashboard. Without REDIS_URL (embedded mode) the ana
 dispatcher run in the same process on the SQLite queue; with REDIS_URL only the API runs and workers are started
 separately (npm run worker).
 
-  --demo           build the dashboard if needed, create demo tokens (printed, and kept in
+  --demo           build the dashboard when it is missing or older than its sources, create demo tokens (printed, and kept in
                    <data dir>/demo-tokens.json), upload every bundle of the seed directory that is not
                    stored yet as its robot would, and print analysis progress. Same as PLUMBLINE_DEMO=1.
   --seed-dir DIR   seed bundles (default: seed-runs/ of the repository)
@@ -34,7 +35,7 @@ export const serveCommand: Command = {
     const demo = values.demo === true || config.demo;
     const logger = createLogger({ level: config.logLevel, service: 'plumbline' });
     const say = (line: string) => process.stdout.write(`${line}\n`);
-    if (demo && !existsSync(`${DEFAULT_DASHBOARD_DIR}index.html`)) {
+    if (demo && dashboardBuildIsStale(`${DEFAULT_DASHBOARD_DIR}index.html`, DASHBOARD_SOURCES)) {
       say('building the dashboard…');
       const code = await runNodeScript(DASHBOARD_BUILD, []);
       if (code !== 0) say(`dashboard build failed (exit ${code}); the API still starts`);
