@@ -8,8 +8,8 @@
  * window, which separates a horizontal bias from a tilt when the heading changes; alignment-joint.ts).
  * Method: velocity-free linear system over keyframe triplets (alignment-rows.ts; Mur-Artal & Tardós, IEEE RA-L 2017),
  * linear start for (s, g), then Gauss–Newton with |g| fixed to local normal gravity and a 2-DOF tangent update
- * (Qin & Shen, IEEE T-RO 2018). Windows without acceleration excitation (odometry acceleration std below
- * `minAccelStd`) or with σ_s above `maxScaleSigma` are reported unobservable with the reason, never as a value.
+ * (Qin & Shen, IEEE T-RO 2018). Windows without acceleration excitation (metric odometry acceleration std — odometry
+ * units times the window scale — below `minAccelStd`) or with σ_s above `maxScaleSigma` are reported unobservable with the reason, never as a value.
  */
 import type { AlignmentRows } from './alignment-rows.ts';
 import { solveJoint } from './alignment-joint.ts';
@@ -121,9 +121,12 @@ export function estimateGravityScale(rows: AlignmentRows, worldGravityAligned: b
     return out;
   };
   const accelStd = Float64Array.from({ length: nw }, (_, w) => accelStdOf(rows, win.r0[w]!, win.r1[w]!));
+  // Odometry accelerations are in odometry units: the window's scale makes them metric (monocular odometry), but a
+  // scale that is not a sensible number cannot vouch for excitation, so the unit value is used then.
+  const metricStd = (w: number, r: SolveResult): number => accelStd[w]! * (r.s > 0 && r.s < 1e3 ? r.s : 1);
   const observable = (w: number, r: SolveResult | null): string => {
     if (r === null) return 'insufficient: too few keyframe triplets in the window';
-    if (accelStd[w]! < minStd) return `unobservable: no acceleration excitation (odometry acceleration std ${accelStd[w]!.toFixed(3)} < ${minStd} m/s²)`;
+    if (metricStd(w, r) < minStd) return `unobservable: no acceleration excitation (odometry acceleration std ${metricStd(w, r).toFixed(3)} < ${minStd} m/s²)`;
     if (!(r.s > 0) || r.sSigma / r.s > maxSig) return `unobservable: scale sigma ${(r.sSigma / Math.abs(r.s) * 100).toFixed(1)} % above ${maxSig * 100} %`;
     return '';
   };
@@ -131,7 +134,7 @@ export function estimateGravityScale(rows: AlignmentRows, worldGravityAligned: b
   const first = perWindow(zero);
   const s0 = Float64Array.from(first, (r) => (r !== null ? r.s : Number.NaN));
   // Pass 1 runs without the bias, whose error inflates σ_s: decide on excitation alone here.
-  const anyObservable = first.some((r, w) => r !== null && accelStd[w]! >= minStd);
+  const anyObservable = first.some((r, w) => r !== null && metricStd(w, r) >= minStd);
   const joint = runLevel(rows, win, s0, G, options.estimateBias ?? true, anyObservable);
   const ba = joint?.bias ?? zero;
   const second = perWindow(ba);

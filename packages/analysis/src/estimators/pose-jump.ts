@@ -6,7 +6,8 @@
  * Consecutive rows share keyframes (`rows.overlap` rows per independent triplet), so one jump shows as a block of
  * positive residuals followed by a block of negative ones: the difference statistic peaks at J at the jump and has
  * side lobes of J/2 one block earlier and later. Only the largest statistic within ±2 blocks is kept (non-maximum
- * suppression over the span of rows one jump can reach).
+ * suppression over the span of rows one jump can reach), and only when it stands out from its immediate neighbours
+ * (which the jump model puts at zero) by at least half its size.
  * Scale and gravity: the window scale and run gravity where the scale was observable; elsewhere a local least-squares
  * scale and gravity over ±`localS` seconds of rows, so that a scale or gravity error (which leaves a smooth residual)
  * is not taken for a jump while the run-level scale is unobservable.
@@ -90,7 +91,10 @@ export function findPoseJumps(rows: AlignmentRows, rowScale: Float64Array, runSc
   const out: PoseJump[] = [];
   for (let r = 1; r + 1 < n - 1; r++) {
     const v = stat[r]!;
-    if (v < 8 * sigma || v < 0.05) continue;
+    // A jump inside one keyframe interval changes only this difference: the model puts the neighbours at ~0. A hump
+    // spread over several rows is a smooth misfit (e.g. an attitude or scale error during a manoeuvre), not a jump.
+    const sharp = v - Math.max(stat[r - 1]!, stat[r + 1]!) >= 0.5 * v;
+    if (v < 8 * sigma || v < 0.05 || !sharp) continue;
     let peak = true;
     for (let k = Math.max(0, r - reach); k <= Math.min(n - 2, r + reach) && peak; k++) {
       // Ties go to the earlier row so a flat top yields one jump.

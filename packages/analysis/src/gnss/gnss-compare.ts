@@ -4,6 +4,7 @@ import { geodesy, pose, PoseInterpolator, quat, type UmeyamaOptions } from '@plu
 import type { InertialFinding } from '../estimators/types.ts';
 import { gateFixes, type FixGating } from './fix-gating.ts';
 import { robustAlign, type Alignment } from './robust-align.ts';
+import { gnssScaleFindings } from './gnss-scale.ts';
 import type { FixTrack } from './fix-track.ts';
 
 export type { FixTrack } from './fix-track.ts';
@@ -113,6 +114,8 @@ export function compareWithGnss(
   const local = windowedResiduals(track, opts, global.scale, Math.max(120, 12 * th.window_s));
   const dev = localDeviation(track.t, global.resE, global.resN, BASELINE_HALF_S);
   const findings = divergenceFindings(track, global, th['gnss-divergence'].warn ?? Number.POSITIVE_INFINITY);
+  // Monocular odometry: its scale, free in the alignment, is checked along the path (steps, drift).
+  if (manifest.odometry.monocular) findings.push(...gnssScaleFindings(track, odometry, antennaInOdomBody(manifest), global.scale));
   return { ok: true, origin: built.origin, gating, allE: built.allE, allN: built.allN, allU: built.allU, track, global, scaleFree: manifest.odometry.monocular, errH: dev, errV: local.errV, rmseH, windowT: local.windowT, windowHeadingDeg: local.headingDeg, findings };
 }
 
