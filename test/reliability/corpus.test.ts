@@ -209,9 +209,10 @@ describe('malformed bundle corpus', () => {
       (t.db.prepare("SELECT temp_path FROM upload_sessions WHERE state = 'open'").pluck().all() as string[]).map((p) => p.slice(t.blobs.dir.length + 1)),
     );
     expect(files.filter((f) => f.startsWith('tmp/') && !open.has(f))).toEqual([]);
-    // Refused uploads leave their (complete, content-addressed) bytes behind until an operator prunes them.
+    // A refused upload leaves no blob behind: every stored blob belongs to a run.
     const referenced = new Set(t.db.prepare('SELECT sha256 FROM runs').pluck().all() as string[]);
     orphanBlobs = blobs.filter((f) => !referenced.has(f.slice('sha256/'.length).replace('/', ''))).length;
+    expect(orphanBlobs).toBe(0);
   });
 
   it('wrote nothing outside the bundle root (path traversal, links)', () => {
