@@ -9,7 +9,7 @@ export { selectKeyframes, odomToImuTime, NO_CLOCK_OFFSET, type Keyframes, type C
 export { estimateRotation, handEyeRotation, type RotationOptions, type RotationResult } from './rotation.ts';
 export { buildAlignmentRows, type AlignmentRows } from './alignment-rows.ts';
 export { estimateGravityScale, type GravityScaleOptions, type GravityScaleResult } from './gravity-scale.ts';
-export { estimateScaleDrift, theilSen, type ScaleDriftResult, type ScaleStep } from './scale-drift.ts';
+export { estimateScaleDrift, type ScaleDriftResult, type ScaleStep } from './scale-drift.ts';
 export { allanDeviation, estimateNoiseDensities, type NoiseDensityResult } from './allan.ts';
 export { accelBiasFromStationary, combineAccelBias } from './accel-bias.ts';
 export { findPoseJumps, type PoseJump } from './pose-jump.ts';

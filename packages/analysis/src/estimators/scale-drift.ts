@@ -14,7 +14,8 @@
  * practice) and each is located by the best split at keyframe resolution, with Δχ² = 1 bounds.
  */
 import type { AlignmentRows } from './alignment-rows.ts';
-import { madSigma, medianOf, solveSpd } from './small-math.ts';
+import { theilSen } from '@plumbline/geometry';
+import { medianOf, solveSpd } from './small-math.ts';
 import { noScalar, scalar, type ScalarResult, type WindowSeries } from './types.ts';
 
 export interface ScaleStep {
@@ -40,24 +41,6 @@ export interface ScaleDriftOptions {
   minStepPct?: number;
 }
 
-/** Theil–Sen slope with Sen's 95 % CI; null with fewer than 4 points. */
-export function theilSen(x: ArrayLike<number>, y: ArrayLike<number>): { slope: number; lo: number; hi: number; intercept: number } | null {
-  const n = x.length;
-  if (n < 4) return null;
-  const slopes: number[] = [];
-  for (let i = 0; i < n; i++) for (let j = i + 1; j < n; j++) if (x[j]! !== x[i]!) slopes.push((y[j]! - y[i]!) / (x[j]! - x[i]!));
-  if (slopes.length < 3) return null;
-  slopes.sort((a, b) => a - b);
-  const N = slopes.length;
-  const slope = medianOf(slopes);
-  // Sen 1968: C = z_{0.975}·√(n(n−1)(2n+5)/18); CI = [slope_(N−C)/2, slope_(N+C)/2 + 1] (1-based ranks).
-  const C = 1.96 * Math.sqrt((n * (n - 1) * (2 * n + 5)) / 18);
-  const lo = slopes[Math.max(0, Math.floor((N - C) / 2) - 1)]!;
-  const hi = slopes[Math.min(N - 1, Math.ceil((N + C) / 2))]!;
-  const res = Array.from({ length: n }, (_, i) => y[i]! - slope * x[i]!);
-  return { slope, lo, hi, intercept: medianOf(res) };
-}
-
 /**
  * `scale`: window scale series (NaN = unobservable); `distanceM`: metric distance at each window centre; `raw`: the
  * window scales and sigmas before the observability cut (for step detection); rows, gravity and bias: the alignment
@@ -79,7 +62,9 @@ export function estimateScaleDrift(
   const level = medianOf(ys);
   const steps = findSteps(raw, windowS, rows, gravity, bias, options);
   const thin = thinPoints(xs, ys, 400);
-  const ts = theilSen(thin.x, thin.y);
+  // Theil–Sen with Sen's 95 % interval (geometry robust-fit); fewer than 4 points carry no trend.
+  const fit = thin.x.length >= 4 ? theilSen(Float64Array.from(thin.x), Float64Array.from(thin.y)) : null;
+  const ts = fit && fit.ok ? { slope: fit.slope, lo: fit.slopeLow, hi: fit.slopeHigh } : null;
   const ciTs: [number, number] | null = ts && level > 0 ? [(ts.lo * 1e4) / level, (ts.hi * 1e4) / level] : null;
   const irls = driftFromRows(rows, gravity, bias, steps, metresPerOdomUnit(scale, distanceM, rows));
   if (irls !== null) {

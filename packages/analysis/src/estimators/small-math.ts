@@ -1,106 +1,31 @@
 /**
- * Small dense helpers private to the estimators (systems of at most a few dozen unknowns): symmetric solve and
- * inverse by Cholesky, symmetric eigen-decomposition by cyclic Jacobi rotations, medians.
- * Kept here rather than in geometry because they serve only the tiny normal equations of the estimators.
- * Method: Golub & Van Loan, "Matrix Computations", 4th ed., §4.2 (Cholesky) and §8.5 (Jacobi) — from memory.
+ * Adapters from the estimators' small normal equations to packages/geometry (dense: Cholesky, Jacobi eigen; robust:
+ * median, MAD), in the value-returning shape the estimators use: a solve with its inverse (the covariance up to the
+ * noise scale), eigenpairs, medians of the finite entries. No maths of its own.
  */
-
-/** In-place Cholesky of a symmetric positive-definite n×n row-major matrix (lower factor). false when not SPD. */
-export function cholesky(a: Float64Array, n: number): boolean {
-  for (let j = 0; j < n; j++) {
-    let d = a[j * n + j]!;
-    for (let k = 0; k < j; k++) d -= a[j * n + k]! * a[j * n + k]!;
-    if (!(d > 0)) return false;
-    const l = Math.sqrt(d);
-    a[j * n + j] = l;
-    for (let i = j + 1; i < n; i++) {
-      let s = a[i * n + j]!;
-      for (let k = 0; k < j; k++) s -= a[i * n + k]! * a[j * n + k]!;
-      a[i * n + j] = s / l;
-    }
-  }
-  return true;
-}
-
-/** Solves L Lᵀ x = b in place in b, with L from `cholesky`. */
-export function choleskySolve(l: Float64Array, n: number, b: Float64Array): Float64Array {
-  for (let i = 0; i < n; i++) {
-    let s = b[i]!;
-    for (let k = 0; k < i; k++) s -= l[i * n + k]! * b[k]!;
-    b[i] = s / l[i * n + i]!;
-  }
-  for (let i = n - 1; i >= 0; i--) {
-    let s = b[i]!;
-    for (let k = i + 1; k < n; k++) s -= l[k * n + i]! * b[k]!;
-    b[i] = s / l[i * n + i]!;
-  }
-  return b;
-}
+import { dense, robust } from '@plumbline/geometry';
 
 /**
- * Solves the symmetric positive-definite system A x = b and returns x and A⁻¹ (the covariance of a normal-equation
- * solution up to the noise scale), or null when A is not positive definite. A is not modified.
+ * Solves the symmetric positive-definite system A x = b and returns x and A⁻¹, or null when A is not positive
+ * definite (geometry's relative pivot floor). A and b are not modified.
  */
 export function solveSpd(a: Float64Array, b: Float64Array, n: number): { x: Float64Array; inv: Float64Array } | null {
-  const l = a.slice();
-  if (!cholesky(l, n)) return null;
-  const x = choleskySolve(l, n, b.slice());
-  const inv = new Float64Array(n * n);
-  const col = new Float64Array(n);
-  for (let j = 0; j < n; j++) {
-    col.fill(0);
-    col[j] = 1;
-    choleskySolve(l, n, col);
-    for (let i = 0; i < n; i++) inv[i * n + j] = col[i]!;
-  }
-  return { x, inv };
+  const l = new Float64Array(n * n);
+  if (!dense.choleskyFactor(l, a, n).ok) return null;
+  const x = dense.choleskySolve(new Float64Array(n), l, b, n);
+  return { x, inv: dense.choleskyInverse(new Float64Array(n * n), l, n) };
 }
 
 /**
- * Eigen-decomposition of a symmetric n×n matrix by cyclic Jacobi rotations. Returns eigenvalues ascending and the
- * matching unit eigenvectors as columns of `vectors` (row-major n×n). A is not modified.
+ * Eigen-decomposition of a symmetric n×n matrix (cyclic Jacobi): eigenvalues ascending and the matching unit
+ * eigenvectors as columns of `vectors` (row-major n×n); NaN-filled when the sweeps did not converge.
  */
 export function symmetricEigen(a: Float64Array, n: number): { values: Float64Array; vectors: Float64Array } {
-  const m = a.slice();
-  const v = new Float64Array(n * n);
-  for (let i = 0; i < n; i++) v[i * n + i] = 1;
-  for (let sweep = 0; sweep < 60; sweep++) {
-    let off = 0;
-    for (let p = 0; p < n; p++) for (let q = p + 1; q < n; q++) off += m[p * n + q]! ** 2;
-    if (off < 1e-30) break;
-    for (let p = 0; p < n; p++) {
-      for (let q = p + 1; q < n; q++) {
-        const apq = m[p * n + q]!;
-        if (Math.abs(apq) < 1e-300) continue;
-        const theta = (m[q * n + q]! - m[p * n + p]!) / (2 * apq);
-        const t = Math.sign(theta || 1) / (Math.abs(theta) + Math.sqrt(theta * theta + 1));
-        const c = 1 / Math.sqrt(t * t + 1);
-        const s = t * c;
-        for (let k = 0; k < n; k++) {
-          const mkp = m[k * n + p]!, mkq = m[k * n + q]!;
-          m[k * n + p] = c * mkp - s * mkq;
-          m[k * n + q] = s * mkp + c * mkq;
-        }
-        for (let k = 0; k < n; k++) {
-          const mpk = m[p * n + k]!, mqk = m[q * n + k]!;
-          m[p * n + k] = c * mpk - s * mqk;
-          m[q * n + k] = s * mpk + c * mqk;
-        }
-        for (let k = 0; k < n; k++) {
-          const vkp = v[k * n + p]!, vkq = v[k * n + q]!;
-          v[k * n + p] = c * vkp - s * vkq;
-          v[k * n + q] = s * vkp + c * vkq;
-        }
-      }
-    }
+  const values = new Float64Array(n), vectors = new Float64Array(n * n);
+  if (!dense.symmetricEigen(values, vectors, a, n).ok) {
+    values.fill(Number.NaN);
+    vectors.fill(Number.NaN);
   }
-  const order = Array.from({ length: n }, (_, i) => i).sort((i, j) => m[i * n + i]! - m[j * n + j]!);
-  const values = new Float64Array(n);
-  const vectors = new Float64Array(n * n);
-  order.forEach((src, dst) => {
-    values[dst] = m[src * n + src]!;
-    for (let k = 0; k < n; k++) vectors[k * n + dst] = v[k * n + src]!;
-  });
   return { values, vectors };
 }
 
@@ -112,20 +37,19 @@ export function conditionNumber(a: Float64Array, n: number): number {
   return lo > 0 ? hi / lo : Number.POSITIVE_INFINITY;
 }
 
-/** Median of the finite entries of `x[0..n)` (copies; NaN when none). */
+/** x[0..n) with ±Infinity as NaN: geometry's robust statistics skip NaN, the estimators skip every non-finite entry. */
+function finiteOnly(x: ArrayLike<number>, n: number): Float64Array {
+  const out = new Float64Array(n);
+  for (let i = 0; i < n; i++) out[i] = Number.isFinite(x[i]!) ? x[i]! : Number.NaN;
+  return out;
+}
+
+/** Median of the finite entries of `x[0..n)` (NaN when none). */
 export function medianOf(x: ArrayLike<number>, n = x.length): number {
-  const f: number[] = [];
-  for (let i = 0; i < n; i++) if (Number.isFinite(x[i]!)) f.push(x[i]!);
-  if (f.length === 0) return Number.NaN;
-  f.sort((a, b) => a - b);
-  const h = f.length >> 1;
-  return f.length % 2 === 1 ? f[h]! : 0.5 * (f[h - 1]! + f[h]!);
+  return robust.median(finiteOnly(x, n));
 }
 
 /** Normalised median absolute deviation (×1.4826, the normal-consistency factor) of the finite entries. */
 export function madSigma(x: ArrayLike<number>, n = x.length): number {
-  const med = medianOf(x, n);
-  const d: number[] = [];
-  for (let i = 0; i < n; i++) if (Number.isFinite(x[i]!)) d.push(Math.abs(x[i]! - med));
-  return 1.4826 * medianOf(d);
+  return robust.mad(finiteOnly(x, n)).sigma;
 }
