@@ -18,6 +18,7 @@ import type { JobQueue } from '@plumbline/queue';
 import { startWorker } from '../services/worker/src/worker.ts';
 import { createThreadedAnalyze } from '../services/worker/src/threaded-analyze.ts';
 import { analyseWithTrajectory } from '../services/worker/src/analysis-output.ts';
+import { originalTrajectoryStream } from '../services/api/src/original-trajectory.ts';
 import { createTestApp } from '../services/api/src/testing.ts';
 import { pushBundle } from '../services/cli/src/push-client.ts';
 
@@ -90,7 +91,7 @@ export async function runServiceFlow(opts: {
     inspectBundle,
     ...(opts.makeQueue ? { makeQueue: opts.makeQueue } : {}),
     clock: { now: () => new Date() },
-    deps: { trajectoryCsv: (path) => originalTrajectoryCsv(path) },
+    deps: { trajectoryCsv: (path) => originalTrajectoryStream(path) },
   });
   const threads = opts.threaded ? createThreadedAnalyze(1) : null;
   const worker = await startWorker(t.config, {
@@ -139,6 +140,8 @@ export async function runServiceFlow(opts: {
       const text = await csv.text();
       // The repaired trajectory is the one the worker stored at analysis time, the same bytes as the analysis package's export.
       if (variant === 'repaired') expect(text).toBe(await repairedTrajectoryCsv(bundle.path));
+      // The original is streamed from the bundle's odometry file alone, the same bytes as the analysis package's export.
+      else expect(text).toBe(await originalTrajectoryCsv(bundle.path));
       const lines = text.trim().split('\n');
       expect(lines[0]).toMatch(/^t,/);
       // 40 s of odometry at the simulator's default 20 Hz: about 800 poses.

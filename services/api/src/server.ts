@@ -10,8 +10,8 @@ import { loadConfig, type Config } from '@plumbline/config';
 import { createBlobStore, createStore, openDatabase, type Db } from '@plumbline/store';
 import { createQueue } from '@plumbline/queue';
 import { inspectBundle } from '@plumbline/bundle';
-import { originalTrajectoryCsv } from '@plumbline/analysis';
 import { buildApp, type AppDeps } from './app.ts';
+import { originalTrajectoryStream } from './original-trajectory.ts';
 import { createLogger } from './logger.ts';
 import { createServiceMetrics } from './metrics.ts';
 
@@ -35,8 +35,8 @@ export function openResources(config: Config, logger: Logger, extra: Partial<App
     logger,
     clock: { now: () => new Date() },
     inspectBundle,
-    // The original trajectory is read from the bundle; the repaired one is stored by the worker with the report.
-    trajectoryCsv: (path) => originalTrajectoryCsv(path),
+    // The original trajectory is streamed from the bundle; the repaired one is stored by the worker with the report.
+    trajectoryCsv: (path) => originalTrajectoryStream(path),
     metrics: createServiceMetrics(),
     dashboardDir: DEFAULT_DASHBOARD_DIR,
     ...extra,
