@@ -78,6 +78,16 @@ describe('POST /api/v1/runs/:id/analysis', () => {
   });
 });
 
+describe('the large result body', () => {
+  it('is not read without a valid token (401 before parsing, where an unparsable body would otherwise be a 400)', async () => {
+    const { id } = queuedRun();
+    const res = await t.app.inject({ method: 'POST', url: `/api/v1/runs/${id}/analysis`, headers: { 'content-type': 'application/json' }, payload: '{"job_key": '.padEnd(2 * 1024 * 1024, ' ') });
+    expect(res.statusCode).toBe(401);
+    const lead = await t.app.inject({ method: 'POST', url: `/api/v1/runs/${id}/analysis`, headers: { 'content-type': 'application/json', authorization: `Bearer ${t.tokens.lead}` }, payload: '{"job_key": ' });
+    expect(lead.statusCode).toBe(403);
+  });
+});
+
 describe('GET /api/v1/runs/:id/trajectory.csv?variant=repaired', () => {
   it('streams the stored gzip as is when accepted, else decoded; 409 for a report recorded without one', async () => {
     const a = queuedRun(1);

@@ -1,3 +1,4 @@
+import type { Role } from '@plumbline/contracts';
 import type { z } from 'zod';
 import { errors } from '../errors.ts';
 import type { Principal } from './auth.ts';
@@ -32,11 +33,17 @@ export function defineRoute<P extends z.ZodType, Q extends z.ZodType, B extends 
   handler: RouteHandler<P, Q, B>,
 ): void {
   ctx.openapi.add(spec);
+  const authFirst: readonly Role[] | null = spec.bodyLimit && spec.auth !== 'public' ? spec.auth : null;
   ctx.app.route({
     method: spec.method,
     url: spec.url,
     config: { operationId: spec.operationId },
     ...(spec.bodyLimit ? { bodyLimit: spec.bodyLimit } : {}),
+    // A route that takes a large body checks the token before the body is read, so nobody without one can make the
+    // server buffer and parse it.
+    onRequest: async (req) => {
+      if (authFirst) ctx.authenticate(req, authFirst);
+    },
     handler: async (req, reply) => {
       const principal = spec.auth === 'public' ? (null as unknown as Principal) : ctx.authenticate(req, spec.auth);
       if (spec.preHandler) await spec.preHandler(req);
