@@ -15,7 +15,11 @@ export const REDACT_PATHS = [
   '*.password',
 ];
 
-/** The one logger factory: object-first pino with secrets redacted. */
-export function createLogger(opts: { level: string; service: string }): Logger {
-  return pino({ level: opts.level, base: { service: opts.service }, redact: { paths: REDACT_PATHS, censor: '[redacted]' } });
+/**
+ * The one logger factory: object-first pino with secrets redacted. Logs go to stdout, or to `file` (appended,
+ * directory created) when a human reads stdout, as in the demo.
+ */
+export function createLogger(opts: { level: string; service: string; file?: string }): Logger {
+  const options = { level: opts.level, base: { service: opts.service }, redact: { paths: REDACT_PATHS, censor: '[redacted]' } };
+  return opts.file === undefined ? pino(options) : pino(options, pino.destination({ dest: opts.file, mkdir: true, append: true }));
 }

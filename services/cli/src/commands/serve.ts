@@ -1,3 +1,4 @@
+import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { loadConfig } from '@plumbline/config';
 import { createLogger, openResources, startServer, DEFAULT_DASHBOARD_DIR } from '@plumbline/api';
@@ -33,7 +34,9 @@ export const serveCommand: Command = {
     const { values } = parseFlags(argv, { demo: { type: 'boolean' }, 'seed-dir': { type: 'string' } }, false);
     const config = loadConfig();
     const demo = values.demo === true || config.demo;
-    const logger = createLogger({ level: config.logLevel, service: 'plumbline' });
+    // In the demo a person reads stdout: the JSON logs go to a file beside the data instead.
+    const logFile = demo ? join(config.dataDir, 'plumbline.log') : undefined;
+    const logger = createLogger({ level: config.logLevel, service: 'plumbline', ...(logFile ? { file: logFile } : {}) });
     const say = (line: string) => process.stdout.write(`${line}\n`);
     if (demo && dashboardBuildIsStale(`${DEFAULT_DASHBOARD_DIR}index.html`, DASHBOARD_SOURCES)) {
       say('building the dashboard…');
@@ -74,9 +77,10 @@ export const serveCommand: Command = {
 
     if (demo) {
       const tokens = ensureDemoTokens(deps.store, config.dataDir);
-      say(`\nDashboard: ${publicUrl}/   API reference: ${publicUrl}/reference`);
+      say(`\nDashboard: ${publicUrl}/   API reference: ${publicUrl}/reference   Logs: ${logFile}`);
       say(`Tokens (also in ${config.dataDir}/demo-tokens.json):`);
       for (const [role, t] of Object.entries(tokens.roles)) say(`  ${role.padEnd(11)} ${t}`);
+      say('Open the dashboard and sign in with the lead token; robot tokens follow once the demo runs are uploaded.');
       const seedDir = values['seed-dir'] ?? `${ROOT}seed-runs`;
       const paths = await findSeeds(seedDir);
       say(`\nseed bundles in ${seedDir}: ${paths.length}`);
