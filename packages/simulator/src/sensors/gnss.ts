@@ -5,6 +5,7 @@
  * (τ = 5 s), as GNSS errors are strongly time-correlated (common practice). Multipath jumps degrade the fix to
  * single for a few seconds; a gnss-divergence fault biases the fixes by a known horizontal offset.
  */
+import type { GnssColumns } from '@plumbline/bundle';
 import { quat, vec3 } from '@plumbline/geometry';
 import { createKinState } from '../motion/kinematics.ts';
 import { createRng } from '../prng.ts';
@@ -12,18 +13,7 @@ import type { Scenario } from '../scenario.ts';
 import { SITES } from '../spec.ts';
 import { enuToGeodeticDeg } from './geo.ts';
 
-export interface GnssBlock {
-  n: number;
-  t: Float64Array;
-  lat: Float64Array;
-  lon: Float64Array;
-  /** ellipsoidal height, m */
-  alt: Float64Array;
-  fix: Float64Array;
-  hacc: Float64Array;
-  vacc: Float64Array;
-  hdop: Float64Array;
-  sats: Float64Array;
+export interface GnssBlock extends GnssColumns {
   /** ground speed m/s and course over ground, degrees from north (for RMC) */
   speed: Float64Array;
   course: Float64Array;

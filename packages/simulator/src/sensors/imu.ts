@@ -4,22 +4,14 @@
  * turn-on bias, bias random walk, white noise with σ = N·√rate, quantisation to `bits` over ±range and a clamp at
  * the range. Faults: gaps (samples dropped), saturating impacts (in the motion), unit mistakes.
  */
+import type { ImuColumns } from '@plumbline/bundle';
 import { quat, vec3 } from '@plumbline/geometry';
 import { createKinState } from '../motion/kinematics.ts';
 import { createRng } from '../prng.ts';
 import type { Scenario } from '../scenario.ts';
 
-/** Growable columns for imu.csv. */
-export interface ImuBlock {
-  n: number;
-  t: Float64Array;
-  gx: Float64Array;
-  gy: Float64Array;
-  gz: Float64Array;
-  ax: Float64Array;
-  ay: Float64Array;
-  az: Float64Array;
-}
+/** Growable columns for imu.csv (the reader's column layout). */
+export type ImuBlock = ImuColumns;
 
 export function createImuBlock(capacity: number): ImuBlock {
   const c = () => new Float64Array(capacity);

@@ -5,25 +5,14 @@
  * for bounded revisit counts). A loop-mismatch fault adds a confident candidate between two distinct places.
  * Loop times are stamps on the odometry clock, like odometry.csv.
  */
+import type { LoopColumns } from '@plumbline/bundle';
 import { quat, vec3 } from '@plumbline/geometry';
 import { createKinState } from '../motion/kinematics.ts';
 import { createRng } from '../prng.ts';
 import type { Scenario } from '../scenario.ts';
 import { odometryClockOffset } from './odometry.ts';
 
-export interface LoopBlock {
-  n: number;
-  tA: Float64Array;
-  tB: Float64Array;
-  x: Float64Array;
-  y: Float64Array;
-  z: Float64Array;
-  qw: Float64Array;
-  qx: Float64Array;
-  qy: Float64Array;
-  qz: Float64Array;
-  sigmaT: Float64Array;
-  sigmaR: Float64Array;
+export interface LoopBlock extends LoopColumns {
   /** 1 for a true revisit, 0 for an injected false one (not written) */
   genuine: Uint8Array;
 }

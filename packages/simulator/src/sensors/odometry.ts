@@ -4,22 +4,13 @@
  * (≈0.5–1 % of distance, common practice per CHECK-VALUES.md) and heading drifts slowly about gravity.
  * Faults act here: time offset and clock skew on the stamps, scale (monocular, linear drift, step), pose jump, gap.
  */
+import type { OdometryColumns } from '@plumbline/bundle';
 import { quat, vec3 } from '@plumbline/geometry';
 import { createKinState } from '../motion/kinematics.ts';
 import { createRng } from '../prng.ts';
 import type { Scenario } from '../scenario.ts';
 
-export interface OdometryBlock {
-  n: number;
-  /** stamp on the odometry clock, epoch s */
-  t: Float64Array;
-  x: Float64Array;
-  y: Float64Array;
-  z: Float64Array;
-  qw: Float64Array;
-  qx: Float64Array;
-  qy: Float64Array;
-  qz: Float64Array;
+export interface OdometryBlock extends Omit<OdometryColumns, 'quality'> {
   quality: Float64Array;
   /** the physical instant of the pose, s since run start (IMU clock); not written to the bundle */
   tTrue: Float64Array;
