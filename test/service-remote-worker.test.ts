@@ -5,7 +5,6 @@ import { mkdtemp, rm } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { Redis } from 'ioredis';
 import { describe, expect, it } from 'vitest';
 import { originalTrajectoryCsv, repairedTrajectoryCsv } from '@plumbline/analysis';
 import { inspectBundle } from '@plumbline/bundle';
@@ -13,25 +12,13 @@ import { createBullmqQueue, obliterateBullmqQueue } from '@plumbline/queue';
 import { createTestApp } from '../services/api/src/testing.ts';
 import { pushBundle } from '../services/cli/src/push-client.ts';
 import { simulateBundle } from './service-flow.ts';
+import { redisGate, TEST_REDIS_URL } from './redis-gate.ts';
 
-const REDIS_URL = process.env.TEST_REDIS_URL ?? 'redis://127.0.0.1:6379';
+const REDIS_URL = TEST_REDIS_URL;
 const WORKER = fileURLToPath(new URL('./fixtures/remote-worker-process.ts', import.meta.url));
 
-async function redisAnswers(): Promise<boolean> {
-  const r = new Redis(REDIS_URL, { lazyConnect: true, connectTimeout: 1000, maxRetriesPerRequest: 0, retryStrategy: () => null });
-  try {
-    await r.connect();
-    return (await r.ping()) === 'PONG';
-  } catch {
-    return false;
-  } finally {
-    r.disconnect();
-  }
-}
 
-const available = await redisAnswers();
-const required = process.env.REQUIRE_REDIS === '1';
-if (!available && !required) console.warn(`[service-remote-worker] skipped: no Redis answers at ${REDIS_URL} (set REQUIRE_REDIS=1 to make this an error)`);
+const runRedis = await redisGate('service-remote-worker');
 
 async function until<T>(what: string, f: () => Promise<T | null | undefined>, timeoutMs = 60_000): Promise<T> {
   const end = Date.now() + timeoutMs;
@@ -56,7 +43,7 @@ function startWorkerProcess(apiUrl: string, blobDir: string, token: string, queu
 
 // A worker on "another host": its own process, its own empty data directory, no database; the API in this process
 // keeps the SQLite database in memory, so the worker cannot reach it except over HTTP.
-describe.skipIf(!available && !required)('remote worker (BullMQ, results over HTTP)', () => {
+describe.skipIf(!runRedis)('remote worker (BullMQ, results over HTTP)', () => {
   it('push -> analysed by a worker without the database -> recorded once; a duplicate post is refused', async () => {
     const queueName = `test-${randomUUID()}`;
     const bundle = await simulateBundle('e2e-remote', 30);

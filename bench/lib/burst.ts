@@ -14,6 +14,7 @@ import { makeRunSpec, simulateRun, writeRun } from '@plumbline/simulator';
 import { startServerChild, type ServerChild } from './children.ts';
 import { fleetRobotId } from './fleet.ts';
 import { specHash } from './shift.ts';
+export { redisAnswers } from '@plumbline/queue';
 
 export interface BurstResult {
   queue: 'embedded' | 'bullmq';
@@ -96,16 +97,3 @@ export async function benchBurst(opts: { outRoot: string; jobs: number; workers:
   }
 }
 
-/** True when a Redis server answers PING at the URL within a second. */
-export async function redisAnswers(url: string): Promise<boolean> {
-  const { Redis } = await import('ioredis');
-  const r = new Redis(url, { lazyConnect: true, connectTimeout: 1000, maxRetriesPerRequest: 0, retryStrategy: () => null });
-  try {
-    await r.connect();
-    return (await r.ping()) === 'PONG';
-  } catch {
-    return false;
-  } finally {
-    r.disconnect();
-  }
-}

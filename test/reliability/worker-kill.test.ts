@@ -6,33 +6,18 @@
  */
 import { randomUUID } from 'node:crypto';
 import { rm } from 'node:fs/promises';
-import { Redis } from 'ioredis';
 import { afterAll, describe, expect, it } from 'vitest';
 import { createBullmqQueue, createEmbeddedQueue, obliterateBullmqQueue } from '@plumbline/queue';
 import { writeFigures } from './harness.ts';
 import { exactlyOnce, makeDataDir, openStore, seedQueuedRuns, sleep, spawnNode, WORKER_SCRIPT, type Child, type DataDir } from './fault-kit.ts';
+import { redisGate } from '../redis-gate.ts';
 
 const RUNS = 100;
 const REDIS_URL = 'redis://127.0.0.1:6379';
 const dirs: DataDir[] = [];
 const children = new Set<Child>();
 
-async function redisAnswers(): Promise<boolean> {
-  const r = new Redis(REDIS_URL, { lazyConnect: true, maxRetriesPerRequest: 0, connectTimeout: 500, retryStrategy: () => null });
-  try {
-    await r.connect();
-    return (await r.ping()) === 'PONG';
-  } catch {
-    return false;
-  } finally {
-    r.disconnect();
-  }
-}
-const haveRedis = await redisAnswers();
-if (!haveRedis) {
-  if (process.env.REQUIRE_REDIS === '1') throw new Error(`REQUIRE_REDIS=1 but no Redis answers at ${REDIS_URL}`);
-  process.stdout.write(`notice: no Redis at ${REDIS_URL}; the BullMQ worker-kill test is skipped\n`);
-}
+const haveRedis = await redisGate('worker-kill, BullMQ', REDIS_URL);
 
 afterAll(async () => {
   for (const c of children) c.proc.kill('SIGKILL');

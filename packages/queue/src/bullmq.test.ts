@@ -1,26 +1,14 @@
 import { randomUUID } from 'node:crypto';
-import { Redis } from 'ioredis';
 import { Worker } from 'bullmq';
 import { describe, expect, it } from 'vitest';
 import { createBullmqQueue, obliterateBullmqQueue } from './bullmq.ts';
 import { describeQueueContract, job, waitFor } from './testing/queue-contract.ts';
+import { redisAnswers } from './redis-ping.ts';
 
 const REDIS_URL = process.env.TEST_REDIS_URL ?? 'redis://127.0.0.1:6379';
 
-async function redisAnswers(): Promise<boolean> {
-  const client = new Redis(REDIS_URL, { lazyConnect: true, maxRetriesPerRequest: 0, connectTimeout: 1000, retryStrategy: () => null });
-  client.on('error', () => undefined);
-  try {
-    await client.connect();
-    return (await client.ping()) === 'PONG';
-  } catch {
-    return false;
-  } finally {
-    client.disconnect();
-  }
-}
 
-const available = await redisAnswers();
+const available = await redisAnswers(REDIS_URL);
 if (!available) {
   if (process.env.REQUIRE_REDIS === '1') throw new Error(`REQUIRE_REDIS=1 but no Redis answers at ${REDIS_URL}`);
   console.warn(`[queue tests] no Redis at ${REDIS_URL}: BullMQ adapter tests skipped (set REQUIRE_REDIS=1 to fail instead)`);
