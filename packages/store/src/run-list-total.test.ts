@@ -53,4 +53,19 @@ describe('run list total after writes', () => {
     expect(a.runs.list(byRobot).total).toBe(1);
     expect(b.runs.list(byRobot).total).toBe(1);
   });
+
+  it('shares a page between identical calls until a status change, then reads it again', () => {
+    const a = createStore(open());
+    const b = createStore(open());
+    const first = a.runs.create(runInput(0, { robot_id: 'kestrel-01' })).run;
+    const page = a.runs.list(byRobot);
+    expect(a.runs.list(byRobot)).toBe(page);
+    expect(Object.isFrozen(page)).toBe(true);
+    // an update by another connection that changes no count must still be seen (status of the listed run)
+    b.runs.requestAnalysis(first.id);
+    const after = a.runs.list(byRobot);
+    expect(after).not.toBe(page);
+    expect(after.items[0]?.status).toBe('queued');
+    expect(page.items[0]?.status).toBe('received');
+  });
 });

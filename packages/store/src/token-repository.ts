@@ -38,6 +38,21 @@ export function createTokenRepository(db: Db): TokenRepository {
   const all = db.prepare('SELECT id, role, name, robot_id, token_hash, created_at, revoked_at FROM api_tokens ORDER BY created_at, id');
   const revoke = db.prepare('UPDATE api_tokens SET revoked_at = ? WHERE id = ? AND revoked_at IS NULL');
 
+  const verifyUncached = (token: string): TokenInfo | null => {
+    const m = TOKEN_FORMAT.exec(token);
+    const row = m ? (byId.get(m[1]) as TokenRow | undefined) : undefined;
+    const stored = row?.token_hash ?? DUMMY_HASH;
+    const equal = timingSafeEqual(sha256(token), stored);
+    if (!row || !equal || row.revoked_at !== null) return null;
+    return toInfo(row);
+  };
+  // Tokens verified since the database last changed (bounded). Any write, by this connection (`total_changes()`) or
+  // a commit by another one (`data_version`), empties it, so a revocation is effective on the next request.
+  const dataVersion = db.prepare('PRAGMA data_version').pluck();
+  const ownChanges = db.prepare('SELECT total_changes()').pluck();
+  let verifiedAt = '';
+  const verified = new Map<string, TokenInfo>();
+
   return {
     create(input) {
       if (input.role === 'robot' && !input.robot_id) throw new RangeError('a robot token needs a robot_id');
@@ -48,12 +63,20 @@ export function createTokenRepository(db: Db): TokenRepository {
       return { token, info: toInfo(byId.get(id) as TokenRow) };
     },
     verify(token) {
-      const m = TOKEN_FORMAT.exec(token);
-      const row = m ? (byId.get(m[1]) as TokenRow | undefined) : undefined;
-      const stored = row?.token_hash ?? DUMMY_HASH;
-      const equal = timingSafeEqual(sha256(token), stored);
-      if (!row || !equal || row.revoked_at !== null) return null;
-      return toInfo(row);
+      const at = `${dataVersion.get() as number}:${ownChanges.get() as number}`;
+      if (at !== verifiedAt) {
+        verified.clear();
+        verifiedAt = at;
+      }
+      const known = verified.get(token);
+      if (known) return { ...known };
+      const info = verifyUncached(token);
+      if (info) {
+        if (verified.size >= 256) verified.clear();
+        verified.set(token, info);
+        return { ...info };
+      }
+      return null;
     },
     list: () => (all.all() as TokenRow[]).map(toInfo),
     revoke: (id) => revoke.run(isoNow(), id).changes > 0,

@@ -22,6 +22,9 @@ function parsePart<S extends z.ZodType>(schema: S | undefined, value: unknown, w
   return r.data;
 }
 
+/** Frozen responses already checked against a schema, by the identity of the object the handler returned. */
+const checkedBodies = new WeakMap<object, { schema: z.ZodType; json: Buffer }>();
+
 /**
  * Registers a route whose params, query, body and response are checked with zod, and records it in the
  * OpenAPI document. Validation failures become 400 problems naming the field; a response that does not match
@@ -57,12 +60,21 @@ export function defineRoute<P extends z.ZodType, Q extends z.ZodType, B extends 
       if (reply.sent || result === reply) return reply;
       const schema = spec.responses[reply.statusCode];
       if (!schema || isRaw(schema)) return reply.send(result);
+      // A handler may return the same frozen object again (the store shares list pages until the database changes):
+      // it was checked and serialised the first time, so only new objects are parsed and stringified.
+      const isObject = typeof result === 'object' && result !== null && Object.isFrozen(result);
+      const known = isObject ? checkedBodies.get(result) : undefined;
+      if (known !== undefined && known.schema === schema) return reply.type('application/json; charset=utf-8').send(known.json);
       const checked = schema.safeParse(result);
       if (!checked.success) {
         req.log.error({ operationId: spec.operationId, issues: checked.error.issues.slice(0, 5) }, 'response does not match its schema');
         throw errors.INTERNAL(String(req.id));
       }
-      return reply.send(checked.data);
+      if (!isObject) return reply.send(checked.data);
+      // kept as bytes: a string would be encoded again on every send
+      const json = Buffer.from(JSON.stringify(checked.data), 'utf8');
+      checkedBodies.set(result, { schema, json });
+      return reply.type('application/json; charset=utf-8').send(json);
     },
   });
 }
