@@ -4,7 +4,7 @@
  * store, every webhook correctly signed.
  */
 import { describe, expect, it } from 'vitest';
-import { formatTable, runLoad } from '../../scripts/reliability-load.ts';
+import { formatTable, runLoad } from './load.ts';
 import { writeFigures } from './harness.ts';
 
 describe('load smoke (loopback)', () => {

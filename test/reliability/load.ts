@@ -5,7 +5,7 @@
  * peak RSS (of this process, which holds both the server and the clients) and checks every upload's SHA-256 in the
  * store afterwards.
  *
- *   node --import tsx scripts/reliability-load.ts --seconds 60 [--robots 50 --leads 20 --integrators 5] [--json out.json]
+ *   node --import tsx test/reliability/load.ts --seconds 60 [--robots 50 --leads 20 --integrators 5] [--json out.json]
  */
 import { createHash, createHmac, timingSafeEqual } from 'node:crypto';
 import { mkdtemp, rm, writeFile } from 'node:fs/promises';
@@ -21,9 +21,9 @@ import { inspectBundle } from '@plumbline/bundle';
 import { loadConfig } from '@plumbline/config';
 import { createBlobStore, createStore, openDatabase } from '@plumbline/store';
 import { createEmbeddedQueue } from '@plumbline/queue';
-import { buildApp } from '../services/api/src/app.ts';
-import { startWorker } from '../services/worker/src/worker.ts';
-import { entriesOf, imuCsv, manifest, odometryCsv, tarGz } from '../test/corpus/builders.ts';
+import { buildApp } from '../../services/api/src/app.ts';
+import { startWorker } from '../../services/worker/src/worker.ts';
+import { entriesOf, imuCsv, manifest, odometryCsv, tarGz } from '../corpus/builders.ts';
 
 export interface LoadOptions {
   seconds: number;
