@@ -4,7 +4,7 @@ import { pose, quat, so3, stats } from '@plumbline/geometry';
 import type { InertialFinding } from '../estimators/types.ts';
 import type { GnssComparison } from '../gnss/gnss-compare.ts';
 import { collectLoopCandidates, type LoopCandidate } from './candidates.ts';
-import { selectKeyframes } from './keyframes.ts';
+import { selectKeyframesBounded } from './keyframes.ts';
 import { gateLoops } from './loop-gating.ts';
 import { createPoseGraph, type GraphMode, type PoseGraph } from './pose-graph.ts';
 import { wrapAngle } from './pose-graph-edges.ts';
@@ -35,6 +35,8 @@ export interface LoopAnalysis {
   loops: LoopResult[];
   /** Odometry indices of the keyframes and their optimised poses (odometry world, odometry units). */
   keyframes: Int32Array;
+  /** Factor on the default 1 m / 10° / 1 s keyframe steps (> 1 when a long run was thinned to the node budget). */
+  keyframeSpacing: number;
   optimised: PoseGraph | null;
   findings: InertialFinding[];
   /** Path-weighted mean closure error of accepted loops of at least 20 units of path, % and deg/m. */
@@ -153,8 +155,8 @@ export function analyzeLoops(input: LoopAnalysisInput): LoopAnalysis {
   const { manifest, odometry: odo, dist, thresholds: th } = input;
   const mode = chooseMode(manifest, odo);
   const cands = odo.n >= 2 ? collectLoopCandidates(manifest, odo, dist, input.loops, input.gnss, th) : [];
-  const kf = selectKeyframes(odo, dist, cands.flatMap((c) => [c.iA, c.iB]));
-  const empty: LoopAnalysis = { mode, loops: [], keyframes: kf, optimised: null, findings: [], driftPct: null, driftDegPerM: null, solverNote: null };
+  const { keyframes: kf, spacing } = selectKeyframesBounded(odo, dist, cands.flatMap((c) => [c.iA, c.iB]));
+  const empty: LoopAnalysis = { mode, loops: [], keyframes: kf, keyframeSpacing: spacing, optimised: null, findings: [], driftPct: null, driftDegPerM: null, solverNote: null };
   if (cands.length === 0 || kf.length < 2) return empty;
   const { g, loopEdges, gates, dofs } = buildGraph(mode, odo, dist, kf, cands);
   for (let i = 0; i < cands.length; i++) gates[i] = stats.chiSquareQuantile(1 - th.loop_gate_alpha, dofs[i]!);
@@ -171,7 +173,7 @@ export function analyzeLoops(input: LoopAnalysisInput): LoopAnalysis {
   });
   const findings = loopFindings(loops, th);
   return {
-    mode, loops, keyframes: kf, optimised: gating.ok ? g : null, findings,
+    mode, loops, keyframes: kf, keyframeSpacing: spacing, optimised: gating.ok ? g : null, findings,
     driftPct: weightedDrift(loops, (l) => l.translationErrorPct), driftDegPerM: weightedDrift(loops, (l) => l.rotationErrorDegPerM),
     solverNote: gating.ok ? null : `pose graph not solved: ${gating.reason}`,
   };

@@ -3,6 +3,7 @@ import { REPORT_SCHEMA, type Corrections, type Estimates, type Flag, type Integr
 import type { InertialAnalysis } from '../estimators/inertial-types.ts';
 import type { GnssResult } from '../gnss/gnss-compare.ts';
 import type { LoopAnalysis } from '../loops/loop-analysis.ts';
+import { MAX_KEYFRAMES } from '../loops/keyframes.ts';
 import type { RepairedTrajectory } from '../loops/repair.ts';
 import type { RunClock } from '../triage/flags.ts';
 import { roundReport } from './round.ts';
@@ -55,7 +56,9 @@ function corrections(p: ReportParts, loops: Loop[]): Corrections {
   const r = p.repair;
   if (p.loops.solverNote) notes.push(p.loops.solverNote);
   if (r && p.loops.optimised) {
-    notes.push(`pose graph (${p.loops.mode}, ${p.loops.keyframes.length} keyframes) moved poses by up to ${r.maxShift.toPrecision(3)} odometry units (mean ${r.meanShift.toPrecision(3)})`);
+    const sp = p.loops.keyframeSpacing;
+    const spacing = sp > 1 ? `, keyframe steps ${sp.toPrecision(3)}× the default 1 m / 10° / 1 s to stay within ${MAX_KEYFRAMES} nodes` : '';
+    notes.push(`pose graph (${p.loops.mode}, ${p.loops.keyframes.length} keyframes${spacing}) moved poses by up to ${r.maxShift.toPrecision(3)} odometry units (mean ${r.meanShift.toPrecision(3)})`);
   } else notes.push('no pose-graph correction: no usable loop');
   if (r?.scaleApplied == null) notes.push('scale not applied: not estimated for this run');
   else notes.push(`scale ${r.scaleApplied.toPrecision(6)} applied, from the ${p.scaleSource === 'gnss' ? 'GNSS alignment' : 'inertial alignment'}`);
