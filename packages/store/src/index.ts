@@ -15,3 +15,4 @@ export { createMaintenanceRepository } from './maintenance-repository.ts';
 export { createPolicyRepository, PolicyExistsError } from './policy-repository.ts';
 export { createFeedbackRepository } from './feedback-repository.ts';
 export type { MaintenanceRepository, StoredRunEstimates, FindingsSaved, PolicyRepository, FeedbackRepository } from './fleet-types.ts';
+export { recordFleetFollowUp, DRIFT_WINDOW_RUNS, type FleetRules } from './fleet-follow-up.ts';

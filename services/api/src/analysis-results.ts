@@ -3,17 +3,14 @@ import type { Logger } from 'pino';
 import { maintenanceFindings, mergeGate } from '@plumbline/analysis';
 import type { Policy, Report } from '@plumbline/contracts';
 import { loadPolicy } from '@plumbline/config';
-import type { BlobStore, RecordOutcome, Store } from '@plumbline/store';
+import { recordFleetFollowUp, type BlobStore, type RecordOutcome, type Store } from '@plumbline/store';
 
 /**
  * Results posted by remote workers (workers on other hosts, without the database) are recorded here, with the same
  * effects as a worker on this host: the report exactly once under the job key, the `run.analysed` webhook, the robot's
- * maintenance findings and `run.merge-ready`. Kept in step with services/worker (ledger/local-ledger.ts and
- * fleet-hooks.ts); the two services never import each other.
+ * maintenance findings and `run.merge-ready`. Kept in step with services/worker (ledger/local-ledger.ts); the fleet
+ * follow-up itself is the store's `recordFleetFollowUp`, shared with the worker.
  */
-
-/** Runs of a robot the drift detector looks at (same window as the worker and the on-demand refresh). */
-const DRIFT_WINDOW_RUNS = 60;
 
 /**
  * The policy of a job by name: `name@version` is a stored version; null, `default` or the configured policy's name
@@ -72,19 +69,8 @@ export function recordRejection(
 
 /** Maintenance findings of the robot and the merge gate after a recorded report; a failure is logged, never undoes it. */
 function afterRecorded(deps: ResultDeps, runId: string, now: Date): void {
-  const { store } = deps;
   try {
-    const run = store.runs.get(runId);
-    if (!run) return;
-    const nowIso = now.toISOString();
-    const findings = maintenanceFindings(run.robot_id, store.maintenance.robotEstimates(run.robot_id, DRIFT_WINDOW_RUNS), nowIso);
-    store.maintenance.saveFindings(run.robot_id, findings, nowIso, (saved) => {
-      if (saved.opened.length === 0 && saved.resolved.length === 0) return;
-      store.webhooks.enqueueEvent('robot.maintenance', { event: 'robot.maintenance', at: nowIso, robot_id: run.robot_id, opened: saved.opened, resolved: saved.resolved }, now);
-    });
-    const latest = store.reviews.list(runId).at(-1) ?? null;
-    const gate = mergeGate({ run: runId, status: run.status, report: store.reports.current(runId), review: latest ? { decision: latest.decision, flags: latest.flags } : null, thresholds: null });
-    if (gate.ready) store.webhooks.enqueueEvent('run.merge-ready', { event: 'run.merge-ready', at: nowIso, run, gate }, now);
+    recordFleetFollowUp(deps.store, { maintenanceFindings, mergeGate }, runId, now);
   } catch (err) {
     deps.logger.warn({ err, runId }, 'fleet follow-up after analysis failed');
   }
