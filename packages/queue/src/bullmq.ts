@@ -91,6 +91,17 @@ export function createBullmqQueue(opts: BullmqQueueOptions): JobQueue {
         maxStalledCount: 1,
       });
       worker.on('error', onError);
+      const onDead = workOpts.onDeadLetter;
+      if (onDead) {
+        // finishedOn is set only when the job moved to the failed set (attempts exhausted or UnrecoverableError),
+        // not when it went back to delayed/waiting for a retry
+        worker.on('failed', (job, err) => {
+          if (!job || typeof job.finishedOn !== 'number') return;
+          const parsed = AnalysisJob.safeParse(job.data);
+          const dead = { id: job.id ?? '', payload: parsed.success ? parsed.data : null, attempts: job.attemptsMade, error: `${err.name}: ${err.message}` };
+          onDead(dead).catch(onError);
+        });
+      }
       workers.add(worker);
       return {
         async close() {

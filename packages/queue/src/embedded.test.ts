@@ -5,6 +5,7 @@ import { openDatabase } from '@plumbline/store';
 import { describe, expect, it } from 'vitest';
 import { createEmbeddedQueue } from './embedded.ts';
 import { createJobTable } from './job-table.ts';
+import type { DeadLetteredJob } from './types.ts';
 import { describeQueueContract, job, waitFor } from './testing/queue-contract.ts';
 
 describeQueueContract('embedded (SQLite)', async ({ maxAttempts, backoffMs }) => {
@@ -62,13 +63,17 @@ describe('embedded queue: leases', () => {
   it('dead-letters a job whose lease lapsed on its last attempt', async () => {
     const db = openDatabase(':memory:');
     const queue = createEmbeddedQueue(db, { pollIntervalMs: 20, maxAttempts: 1 });
-    await queue.enqueue(job(3));
+    await queue.enqueue(job(3), { jobId: 'died' });
     createJobTable(db, 'analysis').claim(Date.now(), 50);
     await new Promise((r) => setTimeout(r, 80));
     let ran = false;
-    queue.work(async () => void (ran = true), { concurrency: 1 });
+    const dead: DeadLetteredJob[] = [];
+    queue.work(async () => void (ran = true), { concurrency: 1, onDeadLetter: async (d) => void dead.push(d) });
     await waitFor(async () => (await queue.counts()).dead === 1, 5000, 'dead-letter');
+    await waitFor(() => dead.length === 1, 5000, 'dead-letter hook');
     expect(ran).toBe(false);
+    // the hook learns of a job no handler finished: id, payload, the one attempt used, why
+    expect(dead[0]).toEqual({ id: 'died', payload: job(3), attempts: 1, error: 'lease expired (lease expired on the last attempt)' });
     await queue.close();
     db.close();
   });

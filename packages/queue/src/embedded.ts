@@ -5,7 +5,7 @@ import type Database from 'better-sqlite3';
 import { UnrecoverableJobError } from './errors.ts';
 import { createJobTable, type ClaimedJob, type JobTable } from './job-table.ts';
 import { retryDelayMs } from './backoff.ts';
-import type { EmbeddedQueueOptions, JobHandler, JobQueue, QueueWorker } from './types.ts';
+import type { DeadLetterHandler, EmbeddedQueueOptions, JobHandler, JobQueue, QueueWorker } from './types.ts';
 
 // One wake-up channel per database handle, so an enqueue wakes every worker of that database in this process.
 const wakeups = new WeakMap<Database.Database, EventEmitter>();
@@ -36,6 +36,21 @@ function errorText(err: unknown): string {
   return err instanceof Error ? `${err.name}: ${err.message}` : String(err);
 }
 
+/** The payload of a dead job for the dead-letter hook; null when it is not a valid AnalysisJob. */
+function payloadOrNull(text: string): AnalysisJob | null {
+  try {
+    return parsePayload(text);
+  } catch {
+    return null;
+  }
+}
+
+/** Calls the dead-letter hook; its failure goes to onError (the job stays dead either way). */
+function reportDead(s: Settings, hook: DeadLetterHandler | undefined, id: string, payload: string, attempts: number, error: string): Promise<void> {
+  if (!hook) return Promise.resolve();
+  return hook({ id, payload: payloadOrNull(payload), attempts, error }).catch(s.onError);
+}
+
 /** A payload that is not a valid AnalysisJob will never succeed: unrecoverable. */
 function parsePayload(text: string): AnalysisJob {
   let value: unknown;
@@ -53,7 +68,7 @@ function parsePayload(text: string): AnalysisJob {
  * Runs one claimed job: heartbeat while the handler runs, then complete, retry later, or dead-letter. Never
  * rejects: if the bookkeeping itself fails (database busy or closed), the lease lapses and the job is claimed again.
  */
-async function runJob(table: JobTable, s: Settings, claimed: ClaimedJob, handler: JobHandler): Promise<void> {
+async function runJob(table: JobTable, s: Settings, claimed: ClaimedJob, handler: JobHandler, onDead?: DeadLetterHandler): Promise<void> {
   const beat = setInterval(() => {
     const now = Date.now();
     try {
@@ -79,13 +94,15 @@ async function runJob(table: JobTable, s: Settings, claimed: ClaimedJob, handler
       return;
     }
     const last = failure instanceof UnrecoverableJobError || claimed.attempts >= claimed.max_attempts;
-    table.fail(claimed.id, claimed.lease_token, errorText(failure), last ? null : now + retryDelayMs(claimed.attempts, s.backoffMs), now);
+    const error = errorText(failure);
+    const moved = table.fail(claimed.id, claimed.lease_token, error, last ? null : now + retryDelayMs(claimed.attempts, s.backoffMs), now);
+    if (moved && last) await reportDead(s, onDead, claimed.id, claimed.payload, claimed.attempts, error);
   } catch (err) {
     s.onError(err); // see above: the lease will lapse and the job run again
   }
 }
 
-function startWorker(db: Database.Database, table: JobTable, s: Settings, handler: JobHandler, concurrency: number): QueueWorker {
+function startWorker(db: Database.Database, table: JobTable, s: Settings, handler: JobHandler, concurrency: number, onDead?: DeadLetterHandler): QueueWorker {
   if (!Number.isInteger(concurrency) || concurrency < 1) throw new RangeError(`concurrency must be a positive integer, got ${concurrency}`);
   const wake = wakeupOf(db);
   const inFlight = new Set<Promise<void>>();
@@ -96,6 +113,16 @@ function startWorker(db: Database.Database, table: JobTable, s: Settings, handle
   const fill = (): void => {
     if (timer) clearTimeout(timer);
     timer = undefined;
+    if (running && db.open) {
+      try {
+        for (const r of table.reap(Date.now())) {
+          const p: Promise<void> = reportDead(s, onDead, r.id, r.payload, r.attempts, r.last_error).finally(() => inFlight.delete(p));
+          inFlight.add(p);
+        }
+      } catch (err) {
+        s.onError(err); // busy database: the next poll reaps them
+      }
+    }
     while (running && inFlight.size < concurrency) {
       if (!db.open) {
         running = false;
@@ -109,7 +136,7 @@ function startWorker(db: Database.Database, table: JobTable, s: Settings, handle
         break;
       }
       if (!claimed) break;
-      const p: Promise<void> = runJob(table, s, claimed, handler).finally(() => {
+      const p: Promise<void> = runJob(table, s, claimed, handler, onDead).finally(() => {
         inFlight.delete(p);
         if (running) setImmediate(fill);
       });
@@ -170,7 +197,7 @@ export function createEmbeddedQueue(db: Database.Database, opts: EmbeddedQueueOp
       return id;
     },
     work(handler, workOpts) {
-      const worker = startWorker(db, table, s, handler, workOpts.concurrency);
+      const worker = startWorker(db, table, s, handler, workOpts.concurrency, workOpts.onDeadLetter);
       workers.add(worker);
       return {
         async close() {

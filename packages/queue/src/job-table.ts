@@ -15,6 +15,13 @@ export interface ClaimedJob {
   lease_token: string;
 }
 
+export interface ReapedJob {
+  id: string;
+  payload: string;
+  attempts: number;
+  last_error: string;
+}
+
 export interface JobTableCounts {
   waiting: number;
   active: number;
@@ -28,7 +35,9 @@ export interface JobTable {
   /** Inserts a job, or returns false when a job with this id is waiting or active (dedup). A finished job with
    *  the same id is replaced, so re-submitting after completion runs it again. */
   insert(id: string, payload: string, runAt: number, maxAttempts: number, now: number): boolean;
-  /** Leases the next due job (waiting and due, or active with an expired lease) for `leaseMs`; null when none. */
+  /** Dead-letters active jobs whose lease lapsed after their last allowed attempt (their worker died every time). */
+  reap(now: number): ReapedJob[];
+  /** Leases the next due job (waiting and due, or active with an expired lease and attempts left) for `leaseMs`. */
   claim(now: number, leaseMs: number): ClaimedJob | null;
   /** Extends a lease; false when the lease was lost (expired and re-claimed). */
   renew(id: string, leaseToken: string, until: number, now: number): boolean;
@@ -53,13 +62,14 @@ export function createJobTable(db: Database.Database, queue: string): JobTable {
   const reap = db.prepare(
     `UPDATE jobs SET state = 'dead', last_error = COALESCE(last_error, 'lease expired') || ' (lease expired on the last attempt)',
        locked_until = NULL, lease_token = NULL, updated_at = @now
-     WHERE queue = @queue AND state = 'active' AND locked_until < @now AND attempts >= max_attempts`,
+     WHERE queue = @queue AND state = 'active' AND locked_until < @now AND attempts >= max_attempts
+     RETURNING id, payload, attempts, last_error`,
   );
   const nextDue = db.prepare(
     `SELECT id FROM jobs WHERE queue = ? AND state = 'waiting' AND run_at <= ? ORDER BY run_at, created_at LIMIT 1`,
   ).pluck();
   const nextExpired = db.prepare(
-    `SELECT id FROM jobs WHERE queue = ? AND state = 'active' AND locked_until < ? ORDER BY locked_until LIMIT 1`,
+    `SELECT id FROM jobs WHERE queue = ? AND state = 'active' AND locked_until < ? AND attempts < max_attempts ORDER BY locked_until LIMIT 1`,
   ).pluck();
   const lease = db.prepare(
     `UPDATE jobs SET state = 'active', attempts = attempts + 1, locked_until = @until, lease_token = @token, updated_at = @now
@@ -98,13 +108,15 @@ export function createJobTable(db: Database.Database, queue: string): JobTable {
   });
 
   const claim = db.transaction((now: number, leaseMs: number): ClaimedJob | null => {
-    reap.run({ queue, now });
     const id = (nextDue.get(queue, now) ?? nextExpired.get(queue, now)) as string | undefined;
     if (id === undefined) return null;
     return lease.get({ queue, id, until: now + leaseMs, token: randomUUID(), now }) as ClaimedJob;
   });
 
+  const reapAll = db.transaction((now: number) => reap.all({ queue, now }) as ReapedJob[]);
+
   return {
+    reap: (now) => reapAll.immediate(now),
     insert: (id, payload, runAt, max, now) => insert.immediate(id, payload, runAt, max, now),
     claim: (now, leaseMs) => claim.immediate(now, leaseMs),
     renew: (id, token, until, now) => renew.run(until, now, queue, id, token).changes > 0,

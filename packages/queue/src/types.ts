@@ -9,6 +9,9 @@
  *   (`backoffMs * 2^(attempt-1)`) until `maxAttempts` attempts were made, then dead-letters it.
  * - `attempt` counts from 1.
  * - A job whose worker died is delivered again once its lease lapses (embedded) / it is detected stalled (BullMQ).
+ * - A job that reaches the dead-letter set is reported to the worker's `onDeadLetter`, whether its handler threw on
+ *   the last attempt, threw `UnrecoverableJobError`, or (embedded) its lease lapsed with every attempt used (the
+ *   worker process died each time; noticed by the next claim of any worker of the queue).
  */
 import type { AnalysisJob } from '@plumbline/contracts';
 
@@ -20,6 +23,24 @@ export interface QueueJob {
 }
 
 export type JobHandler = (job: QueueJob) => Promise<void>;
+
+/** A job that was dead-lettered; `payload` is null when it was not a valid AnalysisJob. */
+export interface DeadLetteredJob {
+  id: string;
+  payload: AnalysisJob | null;
+  /** Attempts made, the last one included. */
+  attempts: number;
+  /** The last error, as text. */
+  error: string;
+}
+
+/** Called once per dead-lettered job; a rejection is passed to the queue's `onError`, the job stays dead. */
+export type DeadLetterHandler = (job: DeadLetteredJob) => Promise<void>;
+
+export interface WorkOptions {
+  concurrency: number;
+  onDeadLetter?: DeadLetterHandler;
+}
 
 export interface EnqueueOptions {
   /** Dedup key; a job with the same id that is not finished makes this call a no-op returning the id.
@@ -47,7 +68,7 @@ export interface QueueCounts {
 export interface JobQueue {
   /** Adds a job; resolves to its id (the given `jobId` or a generated one). */
   enqueue(payload: AnalysisJob, opts?: EnqueueOptions): Promise<string>;
-  work(handler: JobHandler, opts: { concurrency: number }): QueueWorker;
+  work(handler: JobHandler, opts: WorkOptions): QueueWorker;
   counts(): Promise<QueueCounts>;
   ping(): Promise<boolean>;
   /** Closes workers started by `work` and releases connections (does not close a database it was given). */

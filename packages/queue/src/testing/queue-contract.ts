@@ -5,7 +5,7 @@
 import type { AnalysisJob } from '@plumbline/contracts';
 import { describe, expect, it } from 'vitest';
 import { UnrecoverableJobError } from '../errors.ts';
-import type { JobQueue } from '../types.ts';
+import type { DeadLetteredJob, JobQueue } from '../types.ts';
 
 export interface QueueUnderTest {
   queue: JobQueue;
@@ -187,6 +187,39 @@ export function describeQueueContract(name: string, factory: QueueFactory, skip 
         await q.enqueue(job(13));
         await sleep(200);
         expect((await q.counts()).waiting).toBe(1);
+      });
+    });
+
+    it('reports a job to onDeadLetter once, after its last attempt threw', async () => {
+      await withQueue(factory, { maxAttempts: 2, backoffMs: 20 }, async (q) => {
+        const dead: DeadLetteredJob[] = [];
+        let tries = 0;
+        q.work(async () => {
+          tries += 1;
+          throw new Error('bundle crashed the parser');
+        }, { concurrency: 1, onDeadLetter: async (d) => void dead.push(d) });
+        await q.enqueue(job(7), { jobId: 'always-throws' });
+        await waitFor(() => dead.length === 1, 10_000, 'dead-letter hook');
+        await sleep(100); // no second report, no third try
+        expect(tries).toBe(2);
+        expect(dead).toHaveLength(1);
+        expect(dead[0]?.id).toBe('always-throws');
+        expect(dead[0]?.payload).toEqual(job(7));
+        expect(dead[0]?.attempts).toBe(2);
+        expect(dead[0]?.error).toContain('bundle crashed the parser');
+      });
+    });
+
+    it('reports an unrecoverable job to onDeadLetter after its first attempt', async () => {
+      await withQueue(factory, { maxAttempts: 5, backoffMs: 20 }, async (q) => {
+        const dead: DeadLetteredJob[] = [];
+        q.work(async () => {
+          throw new UnrecoverableJobError('cannot ever work');
+        }, { concurrency: 1, onDeadLetter: async (d) => void dead.push(d) });
+        await q.enqueue(job(8), { jobId: 'unrecoverable' });
+        await waitFor(() => dead.length === 1, 10_000, 'dead-letter hook');
+        expect(dead[0]?.attempts).toBe(1);
+        expect(dead[0]?.error).toContain('cannot ever work');
       });
     });
 
