@@ -18,7 +18,7 @@ export type BundleKind = 'directory' | 'tar' | 'tar.gz' | 'zip';
  */
 export type ExtractMode = 'all' | 'manifest-only';
 
-const isManifestEntry = (name: string): boolean => /^([^/]+\/)?run\.json$/.test(name);
+export const isManifestEntry = (name: string): boolean => /^([^/]+\/)?run\.json$/.test(name);
 
 export interface OpenedBundle {
   /** Directory holding run.json and the data files. */
@@ -49,7 +49,7 @@ export async function openBundle(path: string, limits: ArchiveLimits = {}, mode:
   try {
     const extractor = new Extractor(basename(path), temp, resolved, mode === 'all' ? undefined : isManifestEntry);
     if (kind === 'zip') await extractZip(path, extractor);
-    else await extractTar(path, kind === 'tar.gz', info.size, extractor, resolved);
+    else await extractTar(createReadStream(path), kind === 'tar.gz' ? new RatioGuard(extractor.archive, info.size, resolved) : null, extractor);
     return { root: await findRoot(temp), kind, entries: extractor.entryNames, cleanup };
   } catch (err) {
     await cleanup();
@@ -74,16 +74,20 @@ async function sniff(path: string): Promise<Exclude<BundleKind, 'directory'>> {
   throw new BundleError('BUNDLE_UNSUPPORTED', 'not a directory, .tar, .tar.gz/.tgz or .zip', { file: basename(path) });
 }
 
-async function findRoot(temp: string): Promise<string> {
+export async function findRoot(temp: string): Promise<string> {
   const top = await readdir(temp, { withFileTypes: true });
   if (top.some((d) => d.name === 'run.json')) return temp;
   if (top.length === 1 && top[0]!.isDirectory()) return join(temp, top[0]!.name);
   return temp;
 }
 
-/** Counts decompressed bytes and fails as soon as the overall gzip ratio or the size cap is exceeded. */
-class RatioGuard extends Transform {
-  private produced = 0;
+/**
+ * Counts decompressed bytes and fails as soon as the overall gzip ratio or the size cap is exceeded.
+ * `compressedBytes` is the archive size, or an upper bound of it while the archive is still arriving.
+ */
+export class RatioGuard extends Transform {
+  /** Decompressed bytes passed so far. */
+  produced = 0;
   constructor(
     private readonly archive: string,
     private readonly compressedBytes: number,
@@ -107,11 +111,12 @@ class RatioGuard extends Transform {
 const FILE_TYPES = new Set(['file', 'contiguous-file']);
 const LINK_TYPES = new Set(['symlink', 'link']);
 
-async function extractTar(path: string, gz: boolean, size: number, ex: Extractor, limits: ResolvedLimits): Promise<void> {
+/** Extracts a tar stream (gzip-compressed when a ratio guard is given) through the extractor. */
+export async function extractTar(source: NodeJS.ReadableStream, gz: RatioGuard | null, ex: Extractor): Promise<void> {
   const extract = tarExtract();
-  const stages: NodeJS.ReadWriteStream[] = gz ? [createGunzip(), new RatioGuard(ex.archive, size, limits)] : [];
+  const stages: NodeJS.ReadWriteStream[] = gz ? [createGunzip(), gz] : [];
   let feedError: unknown = null;
-  const chain = [createReadStream(path), ...stages, extract] as unknown as ReadonlyArray<NodeJS.ReadableStream | NodeJS.WritableStream>;
+  const chain = [source, ...stages, extract] as unknown as ReadonlyArray<NodeJS.ReadableStream | NodeJS.WritableStream>;
   const feeding = pipeline(chain).catch((err: unknown) => {
     feedError = err;
   });

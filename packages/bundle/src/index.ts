@@ -9,3 +9,4 @@ export { safeEntryName, type ArchiveLimits } from './archive-extractor.ts';
 export * from './manifest.ts';
 export * from './read-bundle.ts';
 export { locateJsonPath, locateJsonSyntaxError, type TextPosition } from './json-locate.ts';
+export * from './inspect-stream.ts';

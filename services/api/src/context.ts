@@ -4,10 +4,14 @@ import type * as contracts from '@plumbline/contracts';
 import type { Config } from '@plumbline/config';
 import type { BlobStore, Store } from '@plumbline/store';
 import type { JobQueue } from '@plumbline/queue';
+import type { UploadInspector } from '@plumbline/bundle';
 import type { ServiceMetrics } from './metrics.ts';
 import type { TokenBucketLimiter } from './plugins/rate-limit.ts';
 import type { OpenApiRegistry } from './plugins/openapi.ts';
 import type { RouteContext } from './plugins/route-types.ts';
+
+/** Starts the streaming upload check (see `createUploadInspector` in the bundle package). */
+export type InspectUpload = (opts: { name: string; maxCompressedBytes: number }) => UploadInspector;
 
 export interface Clock {
   now(): Date;
@@ -29,6 +33,11 @@ export interface AppDeps {
   logger: Logger;
   clock: Clock;
   inspectBundle: InspectBundle;
+  /**
+   * The same check run on an upload while it arrives (no second pass over the stored file). Absent: the real
+   * streaming check when `inspectBundle` is the library's, otherwise uploads are inspected after storing.
+   */
+  inspectUpload?: InspectUpload;
   /** Absent: the trajectory.csv route answers 503 until wired. */
   trajectoryCsv?: TrajectoryCsv;
   metrics?: ServiceMetrics;

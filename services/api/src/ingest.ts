@@ -1,5 +1,5 @@
 import { basename } from 'node:path';
-import type { RunSummary } from '@plumbline/contracts';
+import type { RunManifest, RunSummary } from '@plumbline/contracts';
 import type { BlobInfo, Store } from '@plumbline/store';
 import type { JobQueue } from '@plumbline/queue';
 import type { AppDeps } from './context.ts';
@@ -20,13 +20,19 @@ export async function requestAnalysis(store: Store, queue: JobQueue, runId: stri
   return true;
 }
 
+/** The archive name the streaming upload check gives in its errors (relabelled like a storage name). */
+export const UPLOAD_NAME = 'upload';
+
+/** The result of the upload check made while the bytes arrived; null when the stored file must be inspected. */
+export type Inspected = () => Promise<{ manifest: RunManifest } | null>;
+
 /**
  * Archive-level bundle errors name the archive by its file name, which on the server is an internal content
  * address; the client knows it as the upload. Such errors are re-labelled `file: "(upload)"`.
  */
 function withoutStorageName(e: unknown, path: string): unknown {
   const b = e as { name?: string; file?: string | null; message?: string; code?: string; line?: number | null; column?: number | null };
-  const name = basename(path);
+  const name = b?.file === UPLOAD_NAME ? UPLOAD_NAME : basename(path);
   if (b?.name !== 'BundleError' || b.file !== name) return e;
   const detail = String(b.message).startsWith(`${name}: `) ? String(b.message).slice(name.length + 2) : String(b.message);
   return errors.BUNDLE_INVALID(`the uploaded archive: ${detail}`).with({ bundle_code: b.code, file: '(upload)' });
@@ -44,9 +50,10 @@ export async function ingestBlob(
   principal: Principal,
   blob: BlobInfo,
   declared?: { robot_id: string; run_id: string },
+  inspected?: Inspected,
 ): Promise<{ run: RunSummary; created: boolean }> {
   try {
-    return await createRun(deps, principal, blob, declared);
+    return await createRun(deps, principal, blob, declared, inspected);
   } catch (err) {
     // A refused bundle (bad archive or manifest, another robot's run, conflicting content) leaves nothing behind: its
     // blob goes unless a run references the same bytes. A transient failure keeps it: a retried finish needs it.
@@ -67,8 +74,10 @@ async function createRun(
   principal: Principal,
   blob: BlobInfo,
   declared?: { robot_id: string; run_id: string },
+  inspected?: Inspected,
 ): Promise<{ run: RunSummary; created: boolean }> {
-  const { manifest } = await deps.inspectBundle(blob.path).catch((e: unknown) => {
+  const inspect = async () => (await inspected?.()) ?? (await deps.inspectBundle(blob.path));
+  const { manifest } = await inspect().catch((e: unknown) => {
     throw withoutStorageName(e, blob.path);
   });
   if (principal.role === 'robot' && manifest.robot_id !== principal.robotId) {

@@ -6,7 +6,9 @@ import { z } from 'zod';
 import { AuditEntry, Report, RunDetail, RunListPage, RunListQuery, RunSummary } from '@plumbline/contracts';
 import type { ApiContext } from '../context.ts';
 import { errors } from '../errors.ts';
-import { ingestBlob, requestAnalysis } from '../ingest.ts';
+import { ingestBlob, requestAnalysis, UPLOAD_NAME } from '../ingest.ts';
+import type { InspectUpload } from '../context.ts';
+import { createUploadInspector, inspectBundle, type UploadInspector } from '@plumbline/bundle';
 import { actorOf } from '../plugins/auth.ts';
 import { defineRoute } from '../plugins/route.ts';
 import { ALL_ROLES, assertLengthWithin, IdParams, READERS, uploadRateLimit, visibleRun } from './common.ts';
@@ -57,8 +59,19 @@ async function sniffArchive(path: string): Promise<{ type: string; ext: string }
   }
 }
 
+/** The request bytes on their way to storage, each chunk also given to the streaming upload check. */
+async function* teed(source: Readable, inspector: UploadInspector): AsyncGenerator<Uint8Array> {
+  for await (const chunk of source) {
+    await inspector.write(chunk as Uint8Array);
+    yield chunk as Uint8Array;
+  }
+}
+
 export function registerRunRoutes(ctx: ApiContext): void {
   const { store, blobs, queue } = ctx.deps;
+  // The real check has a streaming form; a test double of inspectBundle is used after storing, as given.
+  const inspectUpload: InspectUpload | undefined =
+    ctx.deps.inspectUpload ?? (ctx.deps.inspectBundle === inspectBundle ? (o) => createUploadInspector(o) : undefined);
   defineRoute(
     ctx,
     {
@@ -74,9 +87,19 @@ export function registerRunRoutes(ctx: ApiContext): void {
     },
     async (req, { principal }, reply) => {
       assertLengthWithin(req, ctx.config.maxUploadBytes);
-      const blob = await blobs.writeStream(await bundleSource(req), { maxBytes: ctx.config.maxUploadBytes });
+      const source = await bundleSource(req);
+      const declared = Number(req.headers['content-length']);
+      const inspector = inspectUpload?.({ name: UPLOAD_NAME, maxCompressedBytes: Number.isFinite(declared) && declared > 0 ? declared : ctx.config.maxUploadBytes });
+      let blob;
+      try {
+        blob = await blobs.writeStream(inspector ? teed(source, inspector) : source, { maxBytes: ctx.config.maxUploadBytes });
+      } catch (err) {
+        await inspector?.abort();
+        throw err;
+      }
       ctx.metrics.uploadBytes.inc({ kind: 'whole' }, blob.sizeBytes);
-      const result = await ingestBlob(ctx.deps, principal, blob);
+      const sizeBytes = blob.sizeBytes;
+      const result = await ingestBlob(ctx.deps, principal, blob, undefined, inspector ? () => inspector.end(sizeBytes) : undefined);
       req.log.info({ runId: result.run.id, created: result.created, sizeBytes: blob.sizeBytes }, 'bundle stored');
       reply.code(result.created ? 201 : 200);
       return result;

@@ -1,0 +1,146 @@
+import { mkdtemp, rm } from 'node:fs/promises';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { PassThrough } from 'node:stream';
+import { extractTar, findRoot, isManifestEntry, RatioGuard } from './archive.ts';
+import { Extractor, resolveLimits, type ArchiveLimits, type ResolvedLimits } from './archive-extractor.ts';
+import { BundleError } from './errors.ts';
+import { readManifest } from './manifest.ts';
+import type { BundleSummary } from './read-bundle.ts';
+
+/** Feeds an archive that is still arriving to the upload-time check (see createUploadInspector). */
+export interface UploadInspector {
+  /** Gives the next bytes; resolves when the inspector can take more (back-pressure). Never rejects. */
+  write(chunk: Uint8Array): Promise<void>;
+  /**
+   * All bytes were given (`totalBytes` of them). Resolves to the same summary as `inspectBundle` on the stored
+   * file, or null when the archive cannot be checked as a stream (zip needs its central directory, a tar without
+   * the POSIX magic needs its file name): the caller then inspects the stored file. Rejects with the BundleError
+   * `inspectBundle` would give.
+   */
+  end(totalBytes: number): Promise<BundleSummary | null>;
+  /** The upload failed: stops and removes the temporary files. */
+  abort(): Promise<void>;
+}
+
+export interface UploadInspectorOptions {
+  /** The name errors give as `file`. */
+  name: string;
+  limits?: ArchiveLimits;
+  /** Most bytes the upload may have (its declared length or the upload cap): bounds the gzip ratio while streaming. */
+  maxCompressedBytes: number;
+}
+
+type Kind = 'tar' | 'tar.gz';
+
+function sniffHead(head: Buffer): Kind | null {
+  if (head.length >= 2 && head[0] === 0x1f && head[1] === 0x8b) return 'tar.gz';
+  if (head.length >= 512 && head.toString('latin1', 257, 262) === 'ustar') return 'tar';
+  return null;
+}
+
+/**
+ * The upload-time bundle check (`inspectBundle`: every archive limit, only run.json written, manifest validated)
+ * run on the bytes while they arrive, so no second pass over the stored file is needed. The gzip ratio is bounded
+ * while streaming by `maxCompressedBytes` and checked exactly against the final size at the end; since the
+ * decompressed count only grows, "over the ratio at some point" equals "over it at the end", and an error found
+ * further on in a stream already over the ratio is reported as the ratio error, as the file-based check would.
+ */
+export function createUploadInspector(options: UploadInspectorOptions): UploadInspector {
+  const limits = resolveLimits(options.limits);
+  const input = new PassThrough({ highWaterMark: 1 << 20 });
+  let head: Buffer | null = Buffer.alloc(0);
+  let kind: Kind | null = null;
+  let passive = false;
+  let temp: string | null = null;
+  let running: Promise<{ ex: Extractor; guard: RatioGuard | null; error: unknown }> | null = null;
+  let failed = false;
+
+  const start = (k: Kind): void => {
+    kind = k;
+    running = (async () => {
+      temp = await mkdtemp(join(limits.tmpDir ?? tmpdir(), 'plumbline-upload-'));
+      const ex = new Extractor(options.name, temp, limits, isManifestEntry);
+      const guard = k === 'tar.gz' ? new RatioGuard(options.name, options.maxCompressedBytes, limits) : null;
+      try {
+        await extractTar(input, guard, ex);
+        return { ex, guard, error: null };
+      } catch (error) {
+        failed = true;
+        input.resume(); // keep taking bytes so the upload itself is not held up
+        return { ex, guard, error };
+      }
+    })();
+  };
+
+  const push = async (chunk: Uint8Array): Promise<void> => {
+    if (failed) return;
+    if (!input.write(chunk)) {
+      await new Promise<void>((resolve) => {
+        const done = () => {
+          input.off('drain', done);
+          input.off('close', done);
+          resolve();
+        };
+        input.on('drain', done);
+        input.on('close', done);
+        // an extraction that failed meanwhile stops reading; it resumed `input`, so drain follows
+      });
+    }
+  };
+
+  return {
+    async write(chunk) {
+      if (passive) return;
+      if (head !== null) {
+        head = Buffer.concat([head, chunk]);
+        // wait for the two bytes of the gzip magic, or the 512-byte tar header
+        if (head.length < 2 || (head.length < 512 && !(head[0] === 0x1f && head[1] === 0x8b))) return;
+        const k = sniffHead(head);
+        const first = head;
+        head = null;
+        if (k === null) {
+          passive = true;
+          return;
+        }
+        start(k);
+        return push(first);
+      }
+      return push(chunk);
+    },
+    async end(totalBytes) {
+      if (head !== null) {
+        const k = passive ? null : sniffHead(head);
+        if (k === null) return null;
+        start(k);
+        await push(head);
+        head = null;
+      }
+      if (passive || !running) return null;
+      input.end();
+      const { ex, guard, error } = await running;
+      try {
+        const ratio = guard ? ratioError(options.name, guard.produced, totalBytes, limits) : null;
+        if (ratio) throw ratio;
+        if (error !== null) throw error;
+        const manifest = await readManifest(await findRoot(temp as string));
+        return { kind: kind as Kind, manifest, entries: ex.entryNames };
+      } finally {
+        if (temp) await rm(temp, { recursive: true, force: true });
+      }
+    },
+    async abort() {
+      failed = true;
+      input.destroy();
+      if (running) await running.catch(() => undefined);
+      if (temp) await rm(temp, { recursive: true, force: true });
+    },
+  };
+}
+
+function ratioError(archive: string, produced: number, compressedBytes: number, l: ResolvedLimits): BundleError | null {
+  if (produced > l.ratioFloorBytes && produced > l.maxRatio * compressedBytes) {
+    return new BundleError('ARCHIVE_RATIO', `gzip stream expands more than ${l.maxRatio}:1 (${compressedBytes} compressed bytes)`, { file: archive });
+  }
+  return null;
+}
