@@ -1,7 +1,7 @@
 import type { Logger } from 'pino';
 import type { Config } from '@plumbline/config';
 import type { BlobStore, Store } from '@plumbline/store';
-import type { JobQueue, QueueWorker } from '@plumbline/queue';
+import type { DeadLetterHandler, JobQueue, QueueWorker } from '@plumbline/queue';
 import { createAnalyseRunProcessor, type AnalyseRunDeps, type Analyze } from './processors/analyse-run.ts';
 import { startWebhookDispatcher, type WebhookDispatcher } from './webhooks/dispatcher.ts';
 import { createPolicyResolver } from './policy.ts';
@@ -22,6 +22,20 @@ export interface WorkerDeps {
   onJobFinished?: AnalyseRunDeps['onJobFinished'];
   fetch?: typeof fetch;
   dispatcherIntervalMs?: number;
+}
+
+/**
+ * A dead-lettered analysis job marks its run `failed` (under the job's key, so a newer submission is untouched).
+ * The processor already does so when its last attempt throws; this also covers a worker process that died on every
+ * attempt, where no code of ours ran the last time. The startup re-enqueue only takes queued/analysing runs.
+ */
+export function failRunOnDeadLetter(ledger: AnalysisLedger, logger: Logger): DeadLetterHandler {
+  return async (dead) => {
+    if (!dead.payload?.attempt_tag) return;
+    const reason = `analysis did not complete after ${dead.attempts} attempts: ${dead.error}`;
+    await ledger.fail(dead.payload.run, dead.payload.attempt_tag, reason);
+    logger.warn({ runId: dead.payload.run, jobKey: dead.payload.attempt_tag, attempts: dead.attempts, error: dead.error }, 'analysis job dead-lettered');
+  };
 }
 
 export interface RunningWorker {
@@ -61,7 +75,10 @@ export async function startWorker(config: Pick<Config, 'workerConcurrency' | 'po
   };
   const recovered = await recover();
   if (recovered > 0) deps.logger.info({ recovered }, 're-enqueued pending runs');
-  const qw: QueueWorker = deps.queue.work(processor, { concurrency: config.workerConcurrency });
+  const qw: QueueWorker = deps.queue.work(processor, {
+    concurrency: config.workerConcurrency,
+    onDeadLetter: failRunOnDeadLetter(ledger, deps.logger.child({ component: 'worker' })),
+  });
   const dispatcher = startWebhookDispatcher({
     webhooks: deps.store.webhooks,
     logger: deps.logger.child({ component: 'webhooks' }),
@@ -103,7 +120,10 @@ export function startRemoteWorker(config: Pick<Config, 'workerConcurrency'>, dep
     maxAttempts: deps.maxAttempts ?? 5,
     ...(deps.onJobFinished ? { onJobFinished: deps.onJobFinished } : {}),
   });
-  const qw = deps.queue.work(processor, { concurrency: config.workerConcurrency });
+  const qw = deps.queue.work(processor, {
+    concurrency: config.workerConcurrency,
+    onDeadLetter: failRunOnDeadLetter(deps.ledger, deps.logger.child({ component: 'worker' })),
+  });
   return { close: () => qw.close() };
 }
 
