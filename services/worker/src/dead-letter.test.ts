@@ -16,6 +16,15 @@ if (!redis) console.warn(`[dead-letter tests] no Redis at ${REDIS_URL}: BullMQ c
 
 const CRASH_SCRIPT = fileURLToPath(new URL('./crash-worker-process.ts', import.meta.url));
 
+/** Runs crash-worker-process.ts until the bundle kills it; resolves to the signal it died of. */
+function crashingWorker(dbPath: string, bullQueueName?: string): Promise<NodeJS.Signals | null> {
+  return new Promise((resolve, reject) => {
+    const child = spawn(process.execPath, ['--import', 'tsx', CRASH_SCRIPT, dbPath, ...(bullQueueName ? [bullQueueName] : [])], { stdio: 'ignore' });
+    child.on('error', reject);
+    child.on('exit', (_code, sig) => resolve(sig));
+  });
+}
+
 async function until(what: string, predicate: () => boolean, timeoutMs = 15_000): Promise<void> {
   const deadline = Date.now() + timeoutMs;
   while (!predicate()) {
@@ -79,12 +88,7 @@ describe('dead-lettered analysis job, embedded queue', () => {
     try {
       // two worker processes in turn, each killed by the bundle (the first enqueues the run at start-up)
       for (let i = 0; i < 2; i++) {
-        const signal = await new Promise<NodeJS.Signals | null>((resolve, reject) => {
-          const child = spawn(process.execPath, ['--import', 'tsx', CRASH_SCRIPT, path], { stdio: 'ignore' });
-          child.on('error', reject);
-          child.on('exit', (_code, sig) => resolve(sig));
-        });
-        expect(signal).toBe('SIGKILL');
+        expect(await crashingWorker(path)).toBe('SIGKILL');
         expect(store.runs.get(runId)?.status).toBe('analysing');
       }
       let analysed = 0;
@@ -128,4 +132,50 @@ describe.skipIf(!redis)('dead-lettered analysis job, BullMQ queue', () => {
       db.close();
     }
   });
+});
+
+describe.skipIf(!redis)('dead-lettered analysis job, BullMQ queue, worker killed', () => {
+  it('a run whose worker process is killed on every attempt ends failed after the stalled limit', async () => {
+    const queueName = `test-${randomUUID()}`;
+    const prefix = 'plumbline-test';
+    const dir = mkdtempSync(join(tmpdir(), 'plumbline-dead-'));
+    const path = join(dir, 'plumbline.db');
+    const db = openDatabase(path);
+    const store = createStore(db);
+    const runId = queuedRun(store);
+    // same lock as the children, so this worker's stalled checks run at their pace (1 s)
+    const queue = createBullmqQueue({ redisUrl: REDIS_URL, queueName, prefix, maxAttempts: 2, lockDurationMs: 1000 });
+    try {
+      // the first child enqueues the run at start-up and dies on it; the second finds it stalled, takes it and dies
+      for (let i = 0; i < 2; i++) {
+        expect(await crashingWorker(path, queueName)).toBe('SIGKILL');
+        expect(store.runs.get(runId)?.status).toBe('analysing');
+      }
+      let analysed = 0;
+      const w = await startWorker(
+        { workerConcurrency: 1, policyFile: null },
+        {
+          store, blobs: createBlobStore('/nonexistent-blobs'), queue, logger: pino({ level: 'silent' }), clock: { now: () => new Date() }, maxAttempts: 2,
+          analyze: async () => {
+            analysed += 1;
+            throw new Error('must not run: the job stalled past its limit');
+          },
+        },
+      );
+      try {
+        await until('run failed', () => store.runs.get(runId)?.status === 'failed', 30_000);
+        expect(analysed).toBe(0);
+        // BullMQ fails a job that stalled more than maxStalledCount (1) times with this reason (bullmq moveStalledJobsToWait)
+        expect(store.runs.get(runId)?.status_reason).toMatch(/^analysis did not complete after \d+ attempts: .*job stalled more than allowable limit$/);
+        expect(await w.recover()).toBe(0);
+      } finally {
+        await w.close();
+      }
+    } finally {
+      await queue.close();
+      await obliterateBullmqQueue({ redisUrl: REDIS_URL, queueName, prefix });
+      db.close();
+      rmSync(dir, { recursive: true, force: true });
+    }
+  }, 60_000);
 });
