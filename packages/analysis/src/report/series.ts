@@ -59,8 +59,10 @@ export function windowSeries(w: WindowSeries, t0: number, unit = w.unit, scale =
 export function imuNormSeries(imu: ImuColumns, t0: number): { gyro: Series; accel: Series } {
   const n = imu.n, g = new Float64Array(n), a = new Float64Array(n);
   for (let i = 0; i < n; i++) {
-    g[i] = Math.hypot(imu.gx[i]!, imu.gy[i]!, imu.gz[i]!);
-    a[i] = Math.hypot(imu.ax[i]!, imu.ay[i]!, imu.az[i]!);
+    // √(x² + y² + z²) rather than Math.hypot: IMU magnitudes cannot overflow, and hypot cost 1.2 s on 5.76 M samples.
+    const gx = imu.gx[i]!, gy = imu.gy[i]!, gz = imu.gz[i]!, ax = imu.ax[i]!, ay = imu.ay[i]!, az = imu.az[i]!;
+    g[i] = Math.sqrt(gx * gx + gy * gy + gz * gz);
+    a[i] = Math.sqrt(ax * ax + ay * ay + az * az);
   }
   const t = imu.t.subarray(0, n);
   return { gyro: scalarSeries('rad/s', t, g, t0), accel: scalarSeries('m/s²', t, a, t0) };
