@@ -88,7 +88,10 @@ export function createBullmqQueue(opts: BullmqQueueOptions): JobQueue {
         concurrency: workOpts.concurrency,
         lockDuration: lockDurationMs,
         stalledInterval: Math.max(1000, Math.floor(lockDurationMs / 2)),
-        maxStalledCount: 1,
+        // A worker that dies mid-job stalls it; allow as many stalls as attempts so repeated crashes (a host
+        // rebooting, a pod evicted twice) retry the job like the embedded queue's lease expiry does, instead of
+        // failing it on the second stall.
+        maxStalledCount: maxAttempts,
       });
       worker.on('error', onError);
       const onDead = workOpts.onDeadLetter;
