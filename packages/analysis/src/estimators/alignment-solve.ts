@@ -1,6 +1,6 @@
 /**
  * Gauss–Newton on the alignment rows (see alignment-rows.ts) over a subset of rows, with gravity on the sphere of
- * radius |g| (2-DOF tangent-space update, T. Qin & S. Shen, "VINS-Mono", IEEE T-RO 34(4), 2018, §V-B) and optional
+ * radius |g| (2-DOF tangent-space update, T. Qin, P. Li & S. Shen, IEEE T-RO 34(4), 2018, §V-B) and optional
  * unknown scale and accelerometer bias. Huber weights (k = 1.345σ) with σ from the RMS of the previous iteration.
  */
 import type { AlignmentRows } from './alignment-rows.ts';
