@@ -12,7 +12,7 @@
  * - A job that reaches the dead-letter set is reported to the worker's `onDeadLetter`, whether its handler threw on
  *   the last attempt, threw `UnrecoverableJobError`, or its worker process died every time: embedded, the lease
  *   lapsed with every attempt used (noticed by the next poll of any worker of the queue); BullMQ, the job stalled
- *   more than `maxStalledCount` (1) times and the worker that next takes it fails it without running the handler.
+ *   more than its stalled limit and the worker that next takes it fails it without running the handler.
  */
 import type { AnalysisJob } from '@plumbline/contracts';
 
