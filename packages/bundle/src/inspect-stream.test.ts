@@ -75,6 +75,15 @@ describe('streaming upload check against the file check', () => {
     expect('code' in missing).toBe(true);
   });
 
+  it('treats bytes after the archive like the file check does, without stalling the upload', async () => {
+    const gz = await tarBuffer(filesAsTarEntries(files), true);
+    const tar = await tarBuffer(filesAsTarEntries(files));
+    const junk = Buffer.alloc(3 << 20, 0x5a);
+    // the extraction stops at the junk; the stream must go on taking bytes (no back-pressure stall) and say the same
+    expect(await same(Buffer.concat([gz, junk]))).toEqual({ code: 'ARCHIVE_CORRUPT' });
+    expect(await same(Buffer.concat([tar, junk]))).toEqual({ code: 'ARCHIVE_CORRUPT' });
+  });
+
   it('leaves zip to the file check', async () => {
     const zip = await zipBuffer(filesAsZipEntries(files));
     expect(await streamed(zip, 4096, { tmpDir: await tempDir() })).toEqual({ summary: null });

@@ -74,19 +74,18 @@ export function createUploadInspector(options: UploadInspectorOptions): UploadIn
   };
 
   const push = async (chunk: Uint8Array): Promise<void> => {
-    if (failed) return;
-    if (!input.write(chunk)) {
-      await new Promise<void>((resolve) => {
-        const done = () => {
-          input.off('drain', done);
-          input.off('close', done);
-          resolve();
-        };
-        input.on('drain', done);
-        input.on('close', done);
-        // an extraction that failed meanwhile stops reading; it resumed `input`, so drain follows
-      });
-    }
+    // a failed extraction destroys `input` (its 'close' has then been emitted already): drop the bytes
+    if (failed || input.destroyed) return;
+    if (input.write(chunk)) return;
+    await new Promise<void>((resolve) => {
+      const done = () => {
+        input.off('drain', done);
+        input.off('close', done);
+        resolve();
+      };
+      input.on('drain', done);
+      input.on('close', done);
+    });
   };
 
   return {
