@@ -84,6 +84,13 @@ describe('streaming upload check against the file check', () => {
     expect(await same(Buffer.concat([tar, junk]))).toEqual({ code: 'ARCHIVE_CORRUPT' });
   });
 
+  it('does not stall the upload when its temporary directory cannot be made', async () => {
+    const gz = Buffer.concat([await tarBuffer(filesAsTarEntries(files), true), Buffer.alloc(3 << 20)]);
+    const inspector = createUploadInspector({ name: 'upload', limits: { tmpDir: '/nonexistent/plumbline' }, maxCompressedBytes: gz.length });
+    for (const c of chunked(gz, 65536)) await inspector.write(c);
+    await expect(inspector.end(gz.length)).rejects.toMatchObject({ code: 'ENOENT' });
+  });
+
   it('leaves zip to the file check', async () => {
     const zip = await zipBuffer(filesAsZipEntries(files));
     expect(await streamed(zip, 4096, { tmpDir: await tempDir() })).toEqual({ summary: null });

@@ -53,21 +53,23 @@ export function createUploadInspector(options: UploadInspectorOptions): UploadIn
   let kind: Kind | null = null;
   let passive = false;
   let temp: string | null = null;
-  let running: Promise<{ ex: Extractor; guard: RatioGuard | null; error: unknown }> | null = null;
+  let running: Promise<{ ex: Extractor | null; guard: RatioGuard | null; error: unknown }> | null = null;
   let failed = false;
 
   const start = (k: Kind): void => {
     kind = k;
     running = (async () => {
-      temp = await mkdtemp(join(limits.tmpDir ?? tmpdir(), 'plumbline-upload-'));
-      const ex = new Extractor(options.name, temp, limits, isManifestEntry);
+      let ex: Extractor | null = null;
       const guard = k === 'tar.gz' ? new RatioGuard(options.name, options.maxCompressedBytes, limits) : null;
       try {
+        temp = await mkdtemp(join(limits.tmpDir ?? tmpdir(), 'plumbline-upload-'));
+        ex = new Extractor(options.name, temp, limits, isManifestEntry);
         await extractTar(input, guard, ex);
         return { ex, guard, error: null };
       } catch (error) {
+        // stop reading; `push` then drops the rest so the upload itself is not held up
         failed = true;
-        input.resume(); // keep taking bytes so the upload itself is not held up
+        input.destroy();
         return { ex, guard, error };
       }
     })();
@@ -121,7 +123,7 @@ export function createUploadInspector(options: UploadInspectorOptions): UploadIn
       try {
         const ratio = guard ? ratioError(options.name, guard.produced, totalBytes, limits) : null;
         if (ratio) throw ratio;
-        if (error !== null) throw error;
+        if (error !== null || ex === null) throw error;
         const manifest = await readManifest(await findRoot(temp as string));
         return { kind: kind as Kind, manifest, entries: ex.entryNames };
       } finally {
