@@ -30,13 +30,12 @@ export function vee(out: Vec3, m: Mat3): Vec3 {
 }
 
 /**
- * out = a·I + b·[φ]× + c·[φ]×² without forming the intermediate matrices.
+ * out = a·I + b·[φ]× + c·[φ]×² for φ = (x, y, z), without forming the intermediate matrices; the common form of
+ * Exp(φ) and the SO(3) Jacobians, exported for hot loops that hold φ as scalars.
  * Uses [φ]×² = φφᵀ − ‖φ‖² I.
  */
-function combine(out: Mat3, phi: Vec3, a: number, b: number, c: number): Mat3 {
-  const x = phi[0]!, y = phi[1]!, z = phi[2]!;
-  const t2 = x * x + y * y + z * z;
-  const d = a - c * t2;
+export function hatPolynomial(out: Mat3, x: number, y: number, z: number, a: number, b: number, c: number): Mat3 {
+  const d = a - c * (x * x + y * y + z * z);
   out[0] = d + c * x * x;
   out[1] = c * x * y - b * z;
   out[2] = c * x * z + b * y;
@@ -47,6 +46,10 @@ function combine(out: Mat3, phi: Vec3, a: number, b: number, c: number): Mat3 {
   out[7] = c * z * y + b * x;
   out[8] = d + c * z * z;
   return out;
+}
+
+function combine(out: Mat3, phi: Vec3, a: number, b: number, c: number): Mat3 {
+  return hatPolynomial(out, phi[0]!, phi[1]!, phi[2]!, a, b, c);
 }
 
 /** Exponential map (Rodrigues' formula): rotation vector φ (rad) → rotation matrix. Forster et al. 2017. */

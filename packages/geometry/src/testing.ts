@@ -1,6 +1,7 @@
 /**
  * Test helpers shared by the geometry tests: a closeness matcher with a named quantity and a seeded PRNG so that
- * "1,000 random cases" are the same cases on every run. Not exported from the package index.
+ * "1,000 random cases" are the same cases on every run. Not exported from the package index: tests reach it as
+ * `@plumbline/geometry/testing`.
  */
 
 /** Throws when |actual − expected| > tol for a scalar or any element of two equal-length arrays. */

@@ -8,6 +8,7 @@
  * G = ΔR·∂ΔR/∂bg and the rotation error as a left perturbation in the keyframe-i frame, which makes every per-sample
  * term a cross product with u = ΔR·a·h instead of a 3×3 matrix product (same first-order model).
  */
+import { so3 } from '@plumbline/geometry';
 
 export interface PreState {
   dt: number;
@@ -105,13 +106,13 @@ function rotateRight(st: PreState, x: number, y: number, z: number, hh: number):
   }
   const e = st.s9;
   // Exp(φ) = I + sb[φ]× + sc[φ]×²; Jl(φ) = I + jb[φ]× + jc[φ]×². Build Jl first, use it, then Exp.
-  fillCombo(e, x, y, z, jb, jc);
+  so3.hatPolynomial(e, x, y, z, 1, jb, jc);
   const r = st.r, g = st.g;
   for (let i = 0; i < 3; i++) {
     const r0 = r[i * 3]!, r1 = r[i * 3 + 1]!, r2 = r[i * 3 + 2]!;
     for (let j = 0; j < 3; j++) g[i * 3 + j] = g[i * 3 + j]! - (r0 * e[j]! + r1 * e[3 + j]! + r2 * e[6 + j]!) * hh;
   }
-  fillCombo(e, x, y, z, sb, sc);
+  so3.hatPolynomial(e, x, y, z, 1, sb, sc);
   for (let i = 0; i < 3; i++) {
     const r0 = r[i * 3]!, r1 = r[i * 3 + 1]!, r2 = r[i * 3 + 2]!;
     r[i * 3] = r0 * e[0]! + r1 * e[3]! + r2 * e[6]!;
@@ -120,19 +121,6 @@ function rotateRight(st: PreState, x: number, y: number, z: number, hh: number):
   }
 }
 
-/** out = I + b[φ]× + c[φ]×² (uses [φ]×² = φφᵀ − |φ|² I). */
-function fillCombo(out: Float64Array, x: number, y: number, z: number, b: number, c: number): void {
-  const d = 1 - c * (x * x + y * y + z * z);
-  out[0] = d + c * x * x;
-  out[1] = c * x * y - b * z;
-  out[2] = c * x * z + b * y;
-  out[3] = c * y * x + b * z;
-  out[4] = d + c * y * y;
-  out[5] = c * y * z - b * x;
-  out[6] = c * z * x - b * y;
-  out[7] = c * z * y + b * x;
-  out[8] = d + c * z * z;
-}
 
 /**
  * Bias Jacobians before the state update (Forster Appendix B, in the left form):

@@ -19,22 +19,7 @@ export function makeOdometry(n: number, rateHz: number, t0 = 0): OdometryColumns
   return { n, t, x: z(), y: z(), z: z(), qw, qx: z(), qy: z(), qz: z(), quality: null };
 }
 
-/** Deterministic PRNG (mulberry32) and a Box–Muller normal draw. */
-export function createRng(seed: number): () => number {
-  let s = seed >>> 0;
-  return () => {
-    s = (s + 0x6d2b79f5) >>> 0;
-    let t = s;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
-
-export function gaussian(rng: () => number): number {
-  const u = 1 - rng();
-  return Math.sqrt(-2 * Math.log(u)) * Math.cos(2 * Math.PI * rng());
-}
+export { createRng, gaussian } from '@plumbline/geometry/testing';
 
 /** Throws with a named quantity when |actual − expected| > tol (elementwise for arrays). */
 export function expectNear(actual: number | ArrayLike<number>, expected: number | ArrayLike<number>, tol: number, what: string): void {
