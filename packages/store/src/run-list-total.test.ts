@@ -1,33 +1,15 @@
-import { mkdtemp, rm } from 'node:fs/promises';
-import { tmpdir } from 'node:os';
-import { join } from 'node:path';
 import { RunListQuery } from '@plumbline/contracts';
-import { afterEach, beforeEach, describe, expect, it } from 'vitest';
-import { openDatabase } from './database.ts';
+import { describe, expect, it } from 'vitest';
 import { createStore } from './store.ts';
+import { useSharedDatabaseFile } from './testing/shared-file.ts';
 import { runInput } from './testing/fixtures.ts';
-import type { Db } from './types.ts';
 
 /**
  * The first-page `total` of the run list is cached per filter until the database changes; these cases check that
  * every kind of change is seen: a write through the same connection, a write by another connection (another
  * process in production: API and workers share the file), and a write outside the repository.
  */
-let dir: string;
-let dbs: Db[];
-beforeEach(async () => {
-  dir = await mkdtemp(join(tmpdir(), 'plumbline-total-'));
-  dbs = [];
-});
-afterEach(async () => {
-  for (const d of dbs) d.close();
-  await rm(dir, { recursive: true, force: true });
-});
-function open(): Db {
-  const d = openDatabase(join(dir, 'plumbline.sqlite'));
-  dbs.push(d);
-  return d;
-}
+const { open } = useSharedDatabaseFile('plumbline-total-');
 const byRobot = RunListQuery.parse({ robot_id: 'kestrel-01' });
 
 describe('run list total after writes', () => {

@@ -1,31 +1,13 @@
-import { mkdtemp, rm } from 'node:fs/promises';
-import { tmpdir } from 'node:os';
-import { join } from 'node:path';
-import { afterEach, beforeEach, describe, expect, it } from 'vitest';
-import { openDatabase } from './database.ts';
+import { describe, expect, it } from 'vitest';
 import { createStore } from './store.ts';
-import type { Db } from './types.ts';
+import { useSharedDatabaseFile } from './testing/shared-file.ts';
 
 /**
  * Verified tokens are remembered until the database changes; a revocation must still be effective on the very
  * next `verify`, whether it is made through the same connection, another connection (the CLI or another API
  * process on the same file) or raw SQL.
  */
-let dir: string;
-let dbs: Db[];
-beforeEach(async () => {
-  dir = await mkdtemp(join(tmpdir(), 'plumbline-token-cache-'));
-  dbs = [];
-});
-afterEach(async () => {
-  for (const d of dbs) d.close();
-  await rm(dir, { recursive: true, force: true });
-});
-function open(): Db {
-  const d = openDatabase(join(dir, 'plumbline.sqlite'));
-  dbs.push(d);
-  return d;
-}
+const { open } = useSharedDatabaseFile('plumbline-token-cache-');
 
 describe('token verification cache and revocation', () => {
   it('forgets a token revoked through the same connection', () => {
