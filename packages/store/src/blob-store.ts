@@ -36,7 +36,33 @@ async function* chunksOf(source: Readable | AsyncIterable<Uint8Array> | Uint8Arr
   else yield* source as AsyncIterable<Uint8Array>;
 }
 
-/** Streams `source` into an open file from `position`, hashing as it goes; stops with BlobTooLargeError past `limit`. */
+/** Request chunks are gathered into writes of about this size: one system call per MiB instead of per 64 kB. */
+const WRITE_BATCH_BYTES = 1 << 20;
+/** At most this many chunks per write (the usual IOV_MAX), should a source yield tiny chunks. */
+const WRITE_BATCH_CHUNKS = 1024;
+
+/** Writes `chunks` (in order) at `position`, resuming after a short write. */
+async function writeAll(file: FileHandle, chunks: Uint8Array[], position: number): Promise<void> {
+  let at = position;
+  let rest = chunks;
+  while (rest.length > 0) {
+    const { bytesWritten } = await file.writev(rest, at);
+    at += bytesWritten;
+    let skip = bytesWritten;
+    let i = 0;
+    while (i < rest.length && skip >= rest[i]!.byteLength) skip -= rest[i++]!.byteLength;
+    rest = rest.slice(i);
+    if (skip > 0) rest[0] = rest[0]!.subarray(skip);
+  }
+}
+
+/**
+ * Streams `source` into an open file from `position`, hashing as it goes; stops with BlobTooLargeError past `limit`.
+ * Chunks are gathered into batches of WRITE_BATCH_BYTES and written with one write in flight while the next batch
+ * arrives, so receiving, hashing and the write overlap. Chunks are held until written: the source must not reuse a
+ * chunk's memory after yielding it (Node streams never do). Resolves or rejects only once no write is in flight,
+ * so a caller may cut back or remove the file at once.
+ */
 async function pump(
   source: Readable | AsyncIterable<Uint8Array> | Uint8Array,
   file: FileHandle,
@@ -44,21 +70,41 @@ async function pump(
   limit: number,
   hash: ReturnType<typeof createHash> | null,
 ): Promise<number> {
-  let written = position;
-  for await (const chunk of chunksOf(source)) {
-    const bytes = typeof chunk === 'string' ? Buffer.from(chunk) : chunk;
-    if (written + bytes.byteLength > limit) {
-      throw new BlobTooLargeError(limit);
+  let received = position;
+  let batch: Uint8Array[] = [];
+  let batchBytes = 0;
+  let batchAt = position;
+  let inFlight: Promise<void> | null = null;
+  const flush = async (): Promise<void> => {
+    if (inFlight) await inFlight;
+    const chunks = batch;
+    const at = batchAt;
+    batch = [];
+    batchAt += batchBytes;
+    batchBytes = 0;
+    inFlight = writeAll(file, chunks, at);
+    // awaited before pump settles; marked handled so a failure seen first by the source loop is not unhandled
+    inFlight.catch(() => undefined);
+  };
+  try {
+    for await (const chunk of chunksOf(source)) {
+      const bytes = typeof chunk === 'string' ? Buffer.from(chunk) : chunk;
+      if (received + bytes.byteLength > limit) {
+        throw new BlobTooLargeError(limit);
+      }
+      hash?.update(bytes);
+      received += bytes.byteLength;
+      batch.push(bytes);
+      batchBytes += bytes.byteLength;
+      if (batchBytes >= WRITE_BATCH_BYTES || batch.length >= WRITE_BATCH_CHUNKS) await flush();
     }
-    let off = 0;
-    while (off < bytes.byteLength) {
-      const { bytesWritten } = await file.write(bytes, off, bytes.byteLength - off, written + off);
-      off += bytesWritten;
-    }
-    hash?.update(bytes);
-    written += bytes.byteLength;
+    if (batchBytes > 0) await flush();
+    await inFlight;
+  } catch (err) {
+    await (inFlight as Promise<void> | null)?.catch(() => undefined);
+    throw err;
   }
-  return written;
+  return received;
 }
 
 async function hashFile(path: string): Promise<{ sha256: string; sizeBytes: number }> {
