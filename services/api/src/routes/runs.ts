@@ -59,12 +59,25 @@ async function sniffArchive(path: string): Promise<{ type: string; ext: string }
   }
 }
 
-/** The request bytes on their way to storage, each chunk also given to the streaming upload check. */
-async function* teed(source: Readable, inspector: UploadInspector): AsyncGenerator<Uint8Array> {
-  for await (const chunk of source) {
-    await inspector.write(chunk as Uint8Array);
-    yield chunk as Uint8Array;
+/**
+ * The request bytes on their way to storage, each chunk also given to the streaming upload check (which holds the
+ * stream back only when its own buffer is full). When the body ends the check is told its size at once, so it
+ * finishes while the stored file is being fsynced; `checked()` is its result (undefined while the body had not ended).
+ */
+function teed(source: Readable, inspector: UploadInspector): { chunks: AsyncGenerator<Uint8Array>; checked: () => ReturnType<UploadInspector['end']> | undefined } {
+  let ended: ReturnType<UploadInspector['end']> | undefined;
+  async function* chunks(): AsyncGenerator<Uint8Array> {
+    let sizeBytes = 0;
+    for await (const chunk of source) {
+      sizeBytes += (chunk as Uint8Array).byteLength;
+      await inspector.write(chunk as Uint8Array);
+      yield chunk as Uint8Array;
+    }
+    ended = inspector.end(sizeBytes);
+    // awaited by the ingest; marked handled for a storage failure that ends the request before that
+    ended.catch(() => undefined);
   }
+  return { chunks: chunks(), checked: () => ended };
 }
 
 export function registerRunRoutes(ctx: ApiContext): void {
@@ -90,16 +103,18 @@ export function registerRunRoutes(ctx: ApiContext): void {
       const source = await bundleSource(req);
       const declared = Number(req.headers['content-length']);
       const inspector = inspectUpload?.({ name: UPLOAD_NAME, maxCompressedBytes: Number.isFinite(declared) && declared > 0 ? declared : ctx.config.maxUploadBytes });
+      const tee = inspector ? teed(source, inspector) : null;
       let blob;
       try {
-        blob = await blobs.writeStream(inspector ? teed(source, inspector) : source, { maxBytes: ctx.config.maxUploadBytes });
+        blob = await blobs.writeStream(tee?.chunks ?? source, { maxBytes: ctx.config.maxUploadBytes });
       } catch (err) {
         await inspector?.abort();
         throw err;
       }
       ctx.metrics.uploadBytes.inc({ kind: 'whole' }, blob.sizeBytes);
       const sizeBytes = blob.sizeBytes;
-      const result = await ingestBlob(ctx.deps, principal, blob, undefined, inspector ? () => inspector.end(sizeBytes) : undefined);
+      const checked = inspector ? () => tee?.checked() ?? inspector.end(sizeBytes) : undefined;
+      const result = await ingestBlob(ctx.deps, principal, blob, undefined, checked);
       req.log.info({ runId: result.run.id, created: result.created, sizeBytes: blob.sizeBytes }, 'bundle stored');
       reply.code(result.created ? 201 : 200);
       return result;
