@@ -1,8 +1,9 @@
 /**
  * Child process of the analysis benchmarks: `read` parses the bundle alone (readBundle), `analyze` runs the whole
- * analysis (analyzeBundle). Runs in its own fresh process so maxRSS belongs to one side only. Prints one line
+ * analysis as the worker service does (analyzeBundle, parallel: inertial estimators on a second thread),
+ * `analyze-serial` the same on one thread. Runs in its own fresh process so maxRSS belongs to one side only. Prints one line
  * `BENCH_RESULT {json}`; the parent starts it with --trace-gc and takes the V8 heap peak from those lines.
- * Usage: node --trace-gc --import tsx bench/lib/analysis-child.ts <read|analyze> <bundle path>
+ * Usage: node --trace-gc --import tsx bench/lib/analysis-child.ts <read|analyze|analyze-serial> <bundle path>
  */
 import { readBundle, type Bundle } from '@plumbline/bundle';
 import { analyzeBundle } from '@plumbline/analysis';
@@ -19,7 +20,7 @@ export function columnarBytes(b: Pick<Bundle, 'imu' | 'odometry' | 'gnss' | 'loo
 
 async function main(): Promise<void> {
   const [mode, path] = process.argv.slice(2);
-  if ((mode !== 'read' && mode !== 'analyze') || !path) throw new Error('usage: analysis-child.ts <read|analyze> <bundle>');
+  if ((mode !== 'read' && mode !== 'analyze' && mode !== 'analyze-serial') || !path) throw new Error('usage: analysis-child.ts <read|analyze|analyze-serial> <bundle>');
   const t0 = performance.now();
   const out: Record<string, unknown> = { mode };
   if (mode === 'read') {
@@ -28,7 +29,7 @@ async function main(): Promise<void> {
     out.columnarBytes = columnarBytes(b);
     out.counts = { imu: b.imu.n, odometry: b.odometry.n, gnss: b.gnss?.n ?? 0, loops: b.loops?.n ?? 0 };
   } else {
-    const report = await analyzeBundle(path);
+    const report = await analyzeBundle(path, undefined, { parallel: mode === 'analyze' });
     out.seconds = (performance.now() - t0) / 1000;
     out.verdict = report.verdict;
     out.flags = report.flags.length;

@@ -77,6 +77,7 @@ export function checks(r: SuiteResult): Check[] {
       add('analyse Shift ÷ read Shift (CPU time)', a.analyze.cpuSeconds / a.read.cpuSeconds, '≤ 2.0', a.analyze.cpuSeconds / a.read.cpuSeconds <= 2);
     }
     if (a.analyze.cpuSeconds !== undefined) add('analyse Shift, CPU seconds (process)', a.analyze.cpuSeconds, '≤ 30 s', a.analyze.cpuSeconds <= 30);
+    if (a.serial) add('analyse Shift on one thread ÷ read Shift (time)', a.serial.seconds / a.read.seconds, '≤ 2.0', a.serial.seconds / a.read.seconds <= 2);
     add('analyse Shift maxRSS ÷ columnar bytes', a.rssRatio, '≤ 3', a.rssRatio <= 3);
     add('analyse Shift maxRSS, GB', a.analyze.maxRssBytes / 1e9, '≤ 1.5 GB', a.analyze.maxRssBytes <= 1.5e9);
   }

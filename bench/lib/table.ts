@@ -18,6 +18,7 @@ export function formatTable(r: SuiteResult): string {
       `.tar.gz ${((r.workloads.shift?.bytes ?? 0) / 1e6).toFixed(1)} MB (generated in ${fmt(r.workloads.shift?.generatedS ?? r.workloads.shift?.firstGeneratedS ?? Number.NaN)} s); columns ${(a.columnarBytes / 1e6).toFixed(0)} MB`);
     lines.push(`  read ${fmt(a.read.seconds)} s (CPU ${fmt(a.read.cpuSeconds ?? Number.NaN)} s, RSS ${(a.read.maxRssBytes / 1e6).toFixed(0)} MB), analyse ${fmt(a.analyze.seconds)} s ` +
       `(CPU ${fmt(a.analyze.cpuSeconds ?? Number.NaN)} s, RSS ${(a.analyze.maxRssBytes / 1e6).toFixed(0)} MB, V8 heap peak ${((a.analyze.heapPeakBytes ?? 0) / 1e6).toFixed(0)} MB)`);
+    if (a.serial) lines.push(`  analyse on one thread ${fmt(a.serial.seconds)} s (CPU ${fmt(a.serial.cpuSeconds)} s, RSS ${(a.serial.maxRssBytes / 1e6).toFixed(0)} MB)`);
   }
   if (r.ingest) lines.push(`ingest: API ${fmt(r.ingest.api.mbPerS)} MB/s, discarding server ${fmt(r.ingest.baseline.mbPerS)} MB/s`);
   if (r.list) lines.push(`run list: API ${fmt(r.list.api.requestsPerS)} req/s (p50 ${r.list.api.p50Ms} ms, p99 ${r.list.api.p99Ms} ms), constant ${fmt(r.list.baseline.requestsPerS)} req/s; body ${r.list.bodyBytes} B`);

@@ -1,11 +1,12 @@
 import { readBundle, type GnssColumns, type ImuColumns, type LoopColumns, type OdometryColumns, type ReadStats } from '@plumbline/bundle';
 import { DEFAULT_POLICY, resolvePolicy, type Policy, type PolicyThresholds, type Report, type RunManifest } from '@plumbline/contracts';
 import pkg from '../package.json' with { type: 'json' };
-import { analyzeInertial } from './estimators/inertial.ts';
+import { analyzeInertial, type InertialInput, type InertialOptions } from './estimators/inertial.ts';
 import { checkTiming } from './estimators/integrity.ts';
 import type { InertialFinding } from './estimators/types.ts';
 import { compareWithGnss, type GnssResult } from './gnss/gnss-compare.ts';
-import { analyzeLoops } from './loops/loop-analysis.ts';
+import { analyzeLoops, type LoopAnalysis } from './loops/loop-analysis.ts';
+import { analyzeInertialInThread, warmInertialThread } from './parallel/inertial-worker.ts';
 import { cumulativeDistance, distanceAt } from './loops/path.ts';
 import { gravityCorrection, levelUpInOdomWorld } from './loops/gravity-level.ts';
 import type { InertialAnalysis } from './estimators/inertial-types.ts';
@@ -60,11 +61,18 @@ function gravityRotationFor(data: RunData, inertial: InertialAnalysis, th: Polic
   return tiltDeg >= warn ? gravityCorrection(up, tiltDeg) : null;
 }
 
-/**
- * Analyses one run: inertial checks, GNSS comparison, loop consistency and pose graph, triage, repair and the
- * report. Pure: no I/O, no clock, no randomness; equal input and policy give a byte-identical report.
- */
-export function analyzeRunDetailed(data: RunData, policy: Policy = DEFAULT_POLICY): RunAnalysis {
+/** What every part of one run's analysis shares: the resolved policy, the run clock and the inertial options. */
+interface RunSetup {
+  data: RunData;
+  resolved: ReturnType<typeof resolvePolicy>;
+  th: PolicyThresholds;
+  dist: Float64Array;
+  clock: RunClock;
+  inertialInput: InertialInput;
+  inertialOptions: InertialOptions;
+}
+
+function setUp(data: RunData, policy: Policy): RunSetup {
   const { manifest, imu, odometry } = data;
   if (odometry.n < 2) throw new RangeError('analyzeRun: the odometry has fewer than two poses (bundle reader should reject this)');
   const resolved = resolvePolicy(policy, manifest.site, manifest.robot_model ?? null);
@@ -72,9 +80,26 @@ export function analyzeRunDetailed(data: RunData, policy: Policy = DEFAULT_POLIC
   const t0 = odometry.t[0]!;
   const dist = cumulativeDistance(odometry);
   const clock: RunClock = { t0, distanceAt: (t) => distanceAt(odometry.t, dist, t) };
-  const inertial = analyzeInertial({ manifest, imu, odometry }, { windowS: th.window_s, windowOverlap: th.window_overlap, ...latitudeOf(data.gnss) });
-  const gnss: GnssResult | null = data.gnss ? compareWithGnss(manifest, odometry, data.gnss, th) : null;
-  const loops = analyzeLoops({ manifest, odometry, dist, loops: data.loops, gnss: gnss && gnss.ok ? gnss : null, thresholds: th });
+  return {
+    data, resolved, th, dist, clock,
+    inertialInput: { manifest, imu, odometry },
+    inertialOptions: { windowS: th.window_s, windowOverlap: th.window_overlap, ...latitudeOf(data.gnss) },
+  };
+}
+
+/** The parts that do not need the inertial result: GNSS comparison, then loop consistency and the pose graph. */
+function analyzeGeometry(r: RunSetup): { gnss: GnssResult | null; loops: LoopAnalysis } {
+  const { manifest, odometry } = r.data;
+  const gnss: GnssResult | null = r.data.gnss ? compareWithGnss(manifest, odometry, r.data.gnss, r.th) : null;
+  const loops = analyzeLoops({ manifest, odometry, dist: r.dist, loops: r.data.loops, gnss: gnss && gnss.ok ? gnss : null, thresholds: r.th });
+  return { gnss, loops };
+}
+
+/** Repair, triage and the report, from the three analyses. */
+function finish(r: RunSetup, inertial: InertialAnalysis, gnss: GnssResult | null, loops: LoopAnalysis): RunAnalysis {
+  const { data, th, dist, clock } = r;
+  const { manifest, imu, odometry } = data;
+  const t0 = clock.t0;
   // Scale for the repair: the inertial estimate, else the GNSS alignment's when it was free (monocular odometry).
   const inertialScale = scaleOf(inertial.estimates.scale);
   const gnssScale = gnss && gnss.ok && gnss.scaleFree ? scaleOf({ value: gnss.global.scale }) : null;
@@ -89,7 +114,7 @@ export function analyzeRunDetailed(data: RunData, policy: Policy = DEFAULT_POLIC
   const stats = data.stats ?? { imu: null, odometry: null, gnss: null, loops: null };
   const report = buildReport({
     analysisVersion: ANALYSIS_VERSION,
-    policyHash: policyHash(resolved),
+    policyHash: policyHash(r.resolved),
     manifest, odometry, imu, gnssColumns: data.gnss, clock, distanceM,
     score: healthScore({ flags, distanceM, durationS: odometry.t[odometry.n - 1]! - t0 }, th),
     verdict: verdictOf(flags),
@@ -108,25 +133,62 @@ export function analyzeRunDetailed(data: RunData, policy: Policy = DEFAULT_POLIC
   return { report, repaired };
 }
 
+/**
+ * Analyses one run: inertial checks, GNSS comparison, loop consistency and pose graph, triage, repair and the
+ * report. Pure: no I/O, no clock, no randomness; equal input and policy give a byte-identical report.
+ */
+export function analyzeRunDetailed(data: RunData, policy: Policy = DEFAULT_POLICY): RunAnalysis {
+  const r = setUp(data, policy);
+  const inertial = analyzeInertial(r.inertialInput, r.inertialOptions);
+  const { gnss, loops } = analyzeGeometry(r);
+  return finish(r, inertial, gnss, loops);
+}
+
+/**
+ * The same analysis on two threads: the inertial estimators run in a helper thread while this thread compares with
+ * GNSS and solves the pose graph; the report is byte-identical to `analyzeRunDetailed`'s. Columns on
+ * SharedArrayBuffer (readBundle's `sharedMemory`) reach the helper without a copy.
+ */
+export async function analyzeRunParallel(data: RunData, policy: Policy = DEFAULT_POLICY): Promise<RunAnalysis> {
+  const r = setUp(data, policy);
+  const pending = analyzeInertialInThread(r.inertialInput, r.inertialOptions);
+  // a failure here must not leave the helper's answer unobserved
+  pending.catch(() => undefined);
+  const { gnss, loops } = analyzeGeometry(r);
+  return finish(r, await pending, gnss, loops);
+}
+
+/** How `analyzeBundle` and its siblings run: `parallel` puts the inertial estimators on a second thread. */
+export interface AnalyzeOptions {
+  parallel?: boolean;
+}
+
+/** Reads a bundle and analyses it, on one thread or (parallel) two. */
+export async function analyzeBundleDetailed(path: string, policy: Policy = DEFAULT_POLICY, options: AnalyzeOptions = {}): Promise<RunAnalysis & { odometry: OdometryColumns }> {
+  if (options.parallel) warmInertialThread();
+  const b = await readBundle(path, { sharedMemory: options.parallel ?? false });
+  const data: RunData = { manifest: b.manifest, imu: b.imu, odometry: b.odometry, gnss: b.gnss, loops: b.loops, stats: b.stats };
+  const out = options.parallel ? await analyzeRunParallel(data, policy) : analyzeRunDetailed(data, policy);
+  return { ...out, odometry: b.odometry };
+}
+
 /** Pure analysis of one run's columnar data under a policy (default: DEFAULT_POLICY). */
 export function analyzeRun(data: RunData, policy: Policy = DEFAULT_POLICY): Report {
   return analyzeRunDetailed(data, policy).report;
 }
 
 /** Reads a bundle (directory or archive) through packages/bundle — the only I/O of the analysis — and analyses it. */
-export async function analyzeBundle(path: string, policy: Policy = DEFAULT_POLICY): Promise<Report> {
-  const b = await readBundle(path);
-  return analyzeRun({ manifest: b.manifest, imu: b.imu, odometry: b.odometry, gnss: b.gnss, loops: b.loops, stats: b.stats }, policy);
+export async function analyzeBundle(path: string, policy: Policy = DEFAULT_POLICY, options: AnalyzeOptions = {}): Promise<Report> {
+  return (await analyzeBundleDetailed(path, policy, options)).report;
 }
 
 /**
  * The repaired trajectory of a bundle as CSV text in the odometry format (`t,x,y,z,qw,qx,qy,qz`): pose-graph
  * corrected, in metres when the scale was estimated. Re-runs the (deterministic) analysis under the same policy.
  */
-export async function repairedTrajectoryCsv(path: string, policy: Policy = DEFAULT_POLICY): Promise<string> {
-  const b = await readBundle(path);
-  const { repaired } = analyzeRunDetailed({ manifest: b.manifest, imu: b.imu, odometry: b.odometry, gnss: b.gnss, loops: b.loops, stats: b.stats }, policy);
-  return trajectoryCsv(repaired ? repaired.columns : b.odometry);
+export async function repairedTrajectoryCsv(path: string, policy: Policy = DEFAULT_POLICY, options: AnalyzeOptions = {}): Promise<string> {
+  const { repaired, odometry } = await analyzeBundleDetailed(path, policy, options);
+  return trajectoryCsv(repaired ? repaired.columns : odometry);
 }
 
 /** The original odometry of a bundle as CSV text in the same format (quality column dropped). */

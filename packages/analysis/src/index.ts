@@ -1,6 +1,6 @@
 export {
-  analyzeBundle, analyzeRun, analyzeRunDetailed, repairedTrajectoryCsv, originalTrajectoryCsv, ANALYSIS_VERSION,
-  type RunData, type RunAnalysis,
+  analyzeBundle, analyzeBundleDetailed, analyzeRun, analyzeRunDetailed, analyzeRunParallel, repairedTrajectoryCsv,
+  originalTrajectoryCsv, ANALYSIS_VERSION, type AnalyzeOptions, type RunData, type RunAnalysis,
 } from './analyze-bundle.ts';
 export { analyzeInertial } from './estimators/inertial.ts';
 export type { InertialAnalysis, InertialEstimates } from './estimators/inertial-types.ts';

@@ -33,6 +33,13 @@ export interface CsvOptions {
   maxIssues?: number;
   /** Expected number of rows, to size the stores once. */
   rowsHint?: number;
+  /** Allocate the column stores on SharedArrayBuffer, so another thread can read the columns without a copy. */
+  sharedMemory?: boolean;
+}
+
+/** A zeroed column store of `length` values, on a SharedArrayBuffer when `shared`. */
+export function columnStore(length: number, shared = false): Float64Array {
+  return shared ? new Float64Array(new SharedArrayBuffer(length * Float64Array.BYTES_PER_ELEMENT)) : new Float64Array(length);
 }
 
 /** What a reader saw: physical lines, rows kept, lines skipped and why. */
@@ -66,6 +73,7 @@ export class CsvColumnParser {
   private readonly maxIssues: number;
   private readonly splitter: LineSplitter;
   private readonly num = new ByteNumberParser();
+  private readonly shared: boolean;
   private stores: Float64Array[];
   private capacity: number;
   private n = 0;
@@ -84,7 +92,8 @@ export class CsvColumnParser {
     this.maxBadFraction = options.maxBadFraction ?? 0.01;
     this.maxIssues = options.maxIssues ?? 10;
     this.capacity = Math.max(16, Math.ceil(options.rowsHint ?? 1024));
-    this.stores = spec.columns.map(() => new Float64Array(this.capacity));
+    this.shared = options.sharedMemory ?? false;
+    this.stores = spec.columns.map(() => columnStore(this.capacity, this.shared));
     this.stats = { file: this.file, lines: 0, samples: 0, badLines: 0, nonFinite: 0, firstErrors: [], extraColumns: [] };
     this.splitter = new LineSplitter(this.file, options.maxLineBytes ?? DEFAULT_MAX_LINE_BYTES, (buf, s, e, no) =>
       this.onLine(buf, s, e, no),
@@ -232,7 +241,7 @@ export class CsvColumnParser {
   private grow(): void {
     this.capacity *= 2;
     this.stores = this.stores.map((s, k) => {
-      const g = new Float64Array(this.capacity);
+      const g = columnStore(this.capacity, this.shared);
       g.set(s);
       if (this.targetField[k] === -1) g.fill(Number.NaN, s.length);
       return g;

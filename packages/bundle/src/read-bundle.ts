@@ -14,6 +14,11 @@ export interface ReadBundleOptions {
   /** Reject a file when bad lines exceed this fraction of its data lines. Default 0.01. */
   maxBadFraction?: number;
   maxLineBytes?: number;
+  /**
+   * Put the IMU and odometry columns on SharedArrayBuffer (see CsvOptions.sharedMemory): for an analysis that hands
+   * them to a worker thread.
+   */
+  sharedMemory?: boolean;
 }
 
 export interface Bundle {
@@ -52,8 +57,9 @@ export async function readBundle(path: string, options: ReadBundleOptions = {}):
     const csv = async (file: string, bytesPerRow: number): Promise<CsvReadOptions> => ({
       ...base, file, rowsHint: await rowsHint(at(file), bytesPerRow),
     });
-    const odometry = await readOdometryCsv(at(manifest.odometry.file), await csv(manifest.odometry.file, 96));
-    const imu = await readImuCsv(at(manifest.imu.file), await csv(manifest.imu.file, 72));
+    const shared = { sharedMemory: options.sharedMemory ?? false };
+    const odometry = await readOdometryCsv(at(manifest.odometry.file), { ...(await csv(manifest.odometry.file, 96)), ...shared });
+    const imu = await readImuCsv(at(manifest.imu.file), { ...(await csv(manifest.imu.file, 72)), ...shared });
     let gnss = null;
     if (manifest.gnss) {
       const file = manifest.gnss.file;

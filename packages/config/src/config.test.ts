@@ -11,6 +11,7 @@ describe('loadConfig defaults', () => {
     expect(c.mode).toBe('embedded');
     expect(c.redisUrl).toBeNull();
     expect(c.workerConcurrency).toBe(1);
+    expect(c.analysisTwoThreads).toBe(true);
     expect(c.maxUploadBytes).toBe(2 * 1024 ** 3);
     expect(c.demo).toBe(false);
     expect(c.corsOrigins).toEqual([]);
@@ -29,6 +30,7 @@ describe('loadConfig values', () => {
       REDIS_URL: 'redis://127.0.0.1:6379',
       PLUMBLINE_WORKER_CONCURRENCY: '3',
       PLUMBLINE_DEMO: 'yes',
+      PLUMBLINE_ANALYSIS_TWO_THREADS: '0',
       PLUMBLINE_CORS_ORIGINS: 'https://a.example, https://b.example',
       PLUMBLINE_LOG_LEVEL: 'debug',
       PLUMBLINE_API_URL: 'https://plumbline.saltmarsh.example/',
@@ -38,6 +40,7 @@ describe('loadConfig values', () => {
     expect(c.mode).toBe('redis');
     expect(c.workerConcurrency).toBe(3);
     expect(c.demo).toBe(true);
+    expect(c.analysisTwoThreads).toBe(false);
     expect(c.corsOrigins).toEqual(['https://a.example', 'https://b.example']);
     expect(c.logLevel).toBe('debug');
   });
@@ -72,7 +75,7 @@ describe('loadConfig errors', () => {
 describe('configReference', () => {
   it('lists every variable once', () => {
     const table = configReference();
-    expect(table.match(/^\| `PLUMBLINE_/gm)?.length).toBe(14);
+    expect(table.match(/^\| `PLUMBLINE_/gm)?.length).toBe(15);
     expect(table).toContain('| `REDIS_URL` | (unset) |');
     expect(table).toContain('| `PLUMBLINE_PORT` | `8640` |');
   });

@@ -2,6 +2,7 @@
 import { analyzeBundle } from '@plumbline/analysis';
 import type { Policy, Report } from '@plumbline/contracts';
 
+/** One bundle, analysed on two threads (the inertial estimators on the second), as the worker does by default. */
 export function analyze(bundlePath: string, policy?: Policy): Promise<Report> {
-  return analyzeBundle(bundlePath, policy);
+  return analyzeBundle(bundlePath, policy, { parallel: true });
 }

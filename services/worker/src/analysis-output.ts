@@ -1,6 +1,5 @@
 import { gzipSync } from 'node:zlib';
-import { analyzeRunDetailed, trajectoryCsv } from '@plumbline/analysis';
-import { readBundle } from '@plumbline/bundle';
+import { analyzeBundleDetailed, trajectoryCsv, type AnalyzeOptions } from '@plumbline/analysis';
 import type { Policy, Report } from '@plumbline/contracts';
 
 /** What one analysis produces: the report and the repaired trajectory CSV, gzipped (null when not produced). */
@@ -19,12 +18,8 @@ export function toAnalysisOutput(r: Report | AnalysisOutput): AnalysisOutput {
  * was estimated; the original odometry when there was nothing to repair) as gzipped CSV in the odometry format, the
  * same bytes `repairedTrajectoryCsv` of the analysis package gives, without a second analysis.
  */
-export async function analyseWithTrajectory(path: string, policy: Policy): Promise<AnalysisOutput> {
-  const b = await readBundle(path);
-  const { report, repaired } = analyzeRunDetailed(
-    { manifest: b.manifest, imu: b.imu, odometry: b.odometry, gnss: b.gnss, loops: b.loops, stats: b.stats },
-    policy,
-  );
-  const csv = trajectoryCsv(repaired ? repaired.columns : b.odometry);
+export async function analyseWithTrajectory(path: string, policy: Policy, options: AnalyzeOptions = {}): Promise<AnalysisOutput> {
+  const { report, repaired, odometry } = await analyzeBundleDetailed(path, policy, options);
+  const csv = trajectoryCsv(repaired ? repaired.columns : odometry);
   return { report, repairedCsvGz: gzipSync(csv, { level: 6 }) };
 }

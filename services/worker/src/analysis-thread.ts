@@ -1,6 +1,6 @@
 /**
  * Runs inside a worker thread: analyses bundles on request so the CPU-bound analysis never blocks the event loop of
- * the process that serves HTTP. Messages: `{ id, path, policy }` in; `{ id, report, repairedCsvGz }` or `{ id, error }`
+ * the process that serves HTTP. Messages: `{ id, path, policy, twoThreads }` in; `{ id, report, repairedCsvGz }` or `{ id, error }`
  * out (the gzipped trajectory bytes are transferred, not copied).
  */
 import { parentPort } from 'node:worker_threads';
@@ -11,6 +11,7 @@ export interface ThreadRequest {
   id: number;
   path: string;
   policy: Policy;
+  twoThreads?: boolean;
 }
 
 /** An error as it crosses the thread boundary; bundle errors keep their code and location. */
@@ -26,7 +27,7 @@ export interface ThreadError {
 const port = parentPort;
 if (!port) throw new Error('analysis-thread.ts must run in a worker thread');
 port.on('message', (req: ThreadRequest) => {
-  analyseWithTrajectory(req.path, req.policy).then(
+  analyseWithTrajectory(req.path, req.policy, { parallel: req.twoThreads ?? false }).then(
     ({ report, repairedCsvGz }) => {
       const gz = repairedCsvGz ? new Uint8Array(repairedCsvGz) : null;
       port.postMessage({ id: req.id, report, repairedCsvGz: gz }, gz ? [gz.buffer] : []);

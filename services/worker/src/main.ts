@@ -24,7 +24,7 @@ if (config.apiUrl && !config.token) {
   process.exit(2);
 }
 // The analysis runs in worker threads so lease renewals and webhook deliveries keep running during long jobs.
-const threads = createThreadedAnalyze(config.workerConcurrency);
+const threads = createThreadedAnalyze(config.workerConcurrency, { twoThreads: config.analysisTwoThreads });
 const stopper = config.apiUrl ? startRemote(config, config.apiUrl, config.token ?? '') : await startLocal(config);
 
 function startRemote(config: Config, apiUrl: string, token: string): () => Promise<void> {

@@ -30,9 +30,11 @@ export interface ThreadedAnalyze {
 
 /**
  * `threads` worker threads running the analysis, requests handed out round-robin. A thread that dies fails its
- * pending requests (the queue retries them) and is replaced on the next request.
+ * pending requests (the queue retries them) and is replaced on the next request. With `twoThreads`, each analysis
+ * runs its inertial estimators on one more thread of its own (see analyzeRunParallel).
  */
-export function createThreadedAnalyze(threads = 1): ThreadedAnalyze {
+export function createThreadedAnalyze(threads = 1, options: { twoThreads?: boolean } = {}): ThreadedAnalyze {
+  const twoThreads = options.twoThreads ?? false;
   type Pending = { resolve(r: AnalysisOutput): void; reject(e: Error): void };
   const slots: Array<{ worker: Worker; pending: Map<number, Pending> } | null> = Array.from({ length: Math.max(1, threads) }, () => null);
   let nextId = 1;
@@ -67,7 +69,7 @@ export function createThreadedAnalyze(threads = 1): ThreadedAnalyze {
       const id = nextId++;
       return new Promise<AnalysisOutput>((resolve, reject) => {
         slot.pending.set(id, { resolve, reject });
-        slot.worker.postMessage({ id, path, policy });
+        slot.worker.postMessage({ id, path, policy, twoThreads });
       });
     },
     async close() {

@@ -46,7 +46,7 @@ export const serveCommand: Command = {
     const res = openResources(config, logger);
     const { deps } = res;
     // Analysis in worker threads: the CPU-bound work never blocks the HTTP event loop of this process.
-    const threads = config.mode === 'embedded' ? createThreadedAnalyze(config.workerConcurrency) : null;
+    const threads = config.mode === 'embedded' ? createThreadedAnalyze(config.workerConcurrency, { twoThreads: config.analysisTwoThreads }) : null;
     const worker = threads
       ? await startEmbeddedWorker(config, {
           store: deps.store,

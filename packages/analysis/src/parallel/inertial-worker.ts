@@ -1,0 +1,60 @@
+import { Worker } from 'node:worker_threads';
+import type { InertialInput, InertialOptions } from '../estimators/inertial.ts';
+import type { InertialAnalysis } from '../estimators/inertial-types.ts';
+
+const BOOT = new URL('./thread-boot.mjs', import.meta.url);
+const ENTRY = new URL('./inertial-thread.ts', import.meta.url).href;
+
+type Pending = { resolve(r: InertialAnalysis): void; reject(e: Error): void };
+type Reply = { id: number; result?: InertialAnalysis; error?: { name: string; message: string } };
+
+/**
+ * One helper thread per calling thread, started on first use and kept; it holds the process open only while a request
+ * is out.
+ * Requests are answered in order; a thread that dies fails what it had and is replaced on the next request.
+ */
+let slot: { worker: Worker; pending: Map<number, Pending> } | null = null;
+let nextId = 1;
+
+function spawn(): NonNullable<typeof slot> {
+  const pending = new Map<number, Pending>();
+  const worker = new Worker(BOOT, { workerData: { entry: ENTRY } });
+  worker.unref();
+  const mine = { worker, pending };
+  worker.on('message', (m: Reply) => {
+    const p = pending.get(m.id);
+    pending.delete(m.id);
+    if (pending.size === 0) worker.unref();
+    if (m.error) p?.reject(Object.assign(new Error(m.error.message), { name: m.error.name }));
+    else if (m.result) p?.resolve(m.result);
+  });
+  const fail = (err: Error) => {
+    for (const p of pending.values()) p.reject(err);
+    pending.clear();
+    if (slot === mine) slot = null;
+  };
+  worker.on('error', fail);
+  worker.on('exit', (code) => fail(new Error(`inertial analysis thread exited with code ${code}`)));
+  slot = mine;
+  return mine;
+}
+
+/** Starts the helper thread ahead of use (its start-up then overlaps the bundle read). */
+export function warmInertialThread(): void {
+  if (!slot) spawn();
+}
+
+/**
+ * `analyzeInertial` in the helper thread. Columns on SharedArrayBuffer are shared, others are copied. Equal input gives
+ * the same result as the call in this thread.
+ */
+export function analyzeInertialInThread(input: InertialInput, options: InertialOptions): Promise<InertialAnalysis> {
+  const s = slot ?? spawn();
+  const id = nextId++;
+  return new Promise<InertialAnalysis>((resolve, reject) => {
+    // held open while a request is out, so a process awaiting only this answer does not exit
+    if (s.pending.size === 0) s.worker.ref();
+    s.pending.set(id, { resolve, reject });
+    s.worker.postMessage({ id, input, options });
+  });
+}
