@@ -147,31 +147,58 @@ interface WindowData {
 /**
  * Gyro rate magnitude over every odometry interval shifted by lag τ: |∫ (ω − b) dt| / Δt over
  * [t_k − τ, t_k+1 − τ] (IMU clock), with the integral of the linearly interpolated rate (exact for the trapezoid rule),
- * so no resampling of either signal is involved. Fills s.g; cursor sweep, O(m + samples).
+ * so no resampling of either signal is involved. Fills s.g; O(m) per lag. With every interval in use (step 1)
+ * consecutive intervals share their end points, so the running integral is evaluated once per odometry stamp.
  */
 function gyroAtLag(d: WindowData, tau: number): void {
-  const { s, rate } = d;
-  const t0w = s.t[0]!, inv = (d.ni - 1) / (s.t[d.ni - 1]! - t0w);
-  // ∫ of the linearly interpolated rate from the window start to T: P_c + ω_c·u + ½(ω_c+1 − ω_c)·u²/h. The sample
-  // index is guessed from the mean rate and corrected locally, so a lag costs O(intervals), not O(samples).
-  const at = (T: number, out: Float64Array) => {
-    let c = Math.min(d.ni - 2, Math.max(0, Math.floor((T - t0w) * inv)));
-    while (c > 0 && s.t[c]! > T) c--;
-    while (c + 2 < d.ni && s.t[c + 1]! <= T) c++;
-    const h = s.t[c + 1]! - s.t[c]!, u = T - s.t[c]!, f = (u * u) / (2 * h);
-    out[0] = s.px[c]! + s.wx[c]! * u + (s.wx[c + 1]! - s.wx[c]!) * f;
-    out[1] = s.py[c]! + s.wy[c]! * u + (s.wy[c + 1]! - s.wy[c]!) * f;
-    out[2] = s.pz[c]! + s.wz[c]! * u + (s.wz[c + 1]! - s.wz[c]!) * f;
-  };
-  const a = s.ia, b = s.ib;
-  for (let j = 0; j < d.m; j += d.step) {
-    const k = d.k0 + j;
-    const t0 = rate.t[k]! - tau, t1 = rate.t[k + 1]! - tau;
-    at(t0, a);
-    at(t1, b);
-    const x = b[0]! - a[0]!, y = b[1]! - a[1]!, z = b[2]! - a[2]!;
-    s.g[j] = Math.sqrt(x * x + y * y + z * z) / (t1 - t0);
+  const { s, rate, m, k0, step } = d;
+  const rt = rate.t, st = s.t, g = s.g, px = s.px, py = s.py, pz = s.pz, wx = s.wx, wy = s.wy, wz = s.wz;
+  const ni = d.ni, t0w = st[0]!, inv = (ni - 1) / (st[ni - 1]! - t0w);
+  // ∫ of the linearly interpolated rate from the window start to T: P_c + ω_c·u + ½(ω_c+1 − ω_c)·u²/h, with c the
+  // last sample at or before T (clamped to the window).
+  let ax = 0, ay = 0, az = 0, ta = 0;
+  if (step === 1) {
+    ta = rt[k0]! - tau;
+    const c = sampleBefore(st, ni, t0w, inv, ta);
+    const h = st[c + 1]! - st[c]!, u = ta - st[c]!, f = (u * u) / (2 * h);
+    ax = px[c]! + wx[c]! * u + (wx[c + 1]! - wx[c]!) * f;
+    ay = py[c]! + wy[c]! * u + (wy[c + 1]! - wy[c]!) * f;
+    az = pz[c]! + wz[c]! * u + (wz[c + 1]! - wz[c]!) * f;
   }
+  for (let j = 0; j < m; j += step) {
+    const k = k0 + j;
+    if (step !== 1) {
+      ta = rt[k]! - tau;
+      const c = sampleBefore(st, ni, t0w, inv, ta);
+      const h = st[c + 1]! - st[c]!, u = ta - st[c]!, f = (u * u) / (2 * h);
+      ax = px[c]! + wx[c]! * u + (wx[c + 1]! - wx[c]!) * f;
+      ay = py[c]! + wy[c]! * u + (wy[c + 1]! - wy[c]!) * f;
+      az = pz[c]! + wz[c]! * u + (wz[c + 1]! - wz[c]!) * f;
+    }
+    const tb = rt[k + 1]! - tau;
+    const c = sampleBefore(st, ni, t0w, inv, tb);
+    const h = st[c + 1]! - st[c]!, u = tb - st[c]!, f = (u * u) / (2 * h);
+    const bx = px[c]! + wx[c]! * u + (wx[c + 1]! - wx[c]!) * f;
+    const by = py[c]! + wy[c]! * u + (wy[c + 1]! - wy[c]!) * f;
+    const bz = pz[c]! + wz[c]! * u + (wz[c + 1]! - wz[c]!) * f;
+    const x = bx - ax, y = by - ay, z = bz - az;
+    g[j] = Math.sqrt(x * x + y * y + z * z) / (tb - ta);
+    ax = bx;
+    ay = by;
+    az = bz;
+    ta = tb;
+  }
+}
+
+/**
+ * Last window sample at or before T, clamped to [0, ni − 2]: guessed from the mean sample rate and corrected locally,
+ * so a lag costs O(intervals), not O(samples).
+ */
+function sampleBefore(st: Float64Array, ni: number, t0w: number, inv: number, T: number): number {
+  let c = Math.min(ni - 2, Math.max(0, Math.floor((T - t0w) * inv)));
+  while (c > 0 && st[c]! > T) c--;
+  while (c + 2 < ni && st[c + 1]! <= T) c++;
+  return c;
 }
 
 function offsetInWindow(
