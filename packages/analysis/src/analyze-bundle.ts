@@ -1,13 +1,12 @@
 import { readBundle, type GnssColumns, type ImuColumns, type LoopColumns, type OdometryColumns, type ReadStats } from '@plumbline/bundle';
-import { DEFAULT_POLICY, resolvePolicy, type Policy, type PolicyThresholds, type Report, type RunManifest } from '@plumbline/contracts';
+import { DEFAULT_POLICY, type Policy, type PolicyThresholds, type Report, type RunManifest } from '@plumbline/contracts';
 import pkg from '../package.json' with { type: 'json' };
 import { analyzeInertial, type InertialInput, type InertialOptions } from './estimators/inertial.ts';
 import { checkTiming } from './estimators/integrity.ts';
 import type { InertialFinding } from './estimators/types.ts';
-import { compareWithGnss, type GnssResult } from './gnss/gnss-compare.ts';
-import { analyzeLoops, type LoopAnalysis } from './loops/loop-analysis.ts';
-import { analyzeInertialInThread, warmInertialThread } from './parallel/inertial-worker.ts';
-import { cumulativeDistance, distanceAt } from './loops/path.ts';
+import { analyzeGeometryInThread, warmGeometryThread } from './parallel/geometry-worker.ts';
+import { analyzeGeometry, runContext, type GeometryResult, type RunContext } from './geometry-part.ts';
+import { distanceAt } from './loops/path.ts';
 import { gravityCorrection, levelUpInOdomWorld } from './loops/gravity-level.ts';
 import type { InertialAnalysis } from './estimators/inertial-types.ts';
 import { repairTrajectory, trajectoryCsv, type RepairedTrajectory } from './loops/repair.ts';
@@ -62,11 +61,8 @@ function gravityRotationFor(data: RunData, inertial: InertialAnalysis, th: Polic
 }
 
 /** What every part of one run's analysis shares: the resolved policy, the run clock and the inertial options. */
-interface RunSetup {
+interface RunSetup extends RunContext {
   data: RunData;
-  resolved: ReturnType<typeof resolvePolicy>;
-  th: PolicyThresholds;
-  dist: Float64Array;
   clock: RunClock;
   inertialInput: InertialInput;
   inertialOptions: InertialOptions;
@@ -75,28 +71,18 @@ interface RunSetup {
 function setUp(data: RunData, policy: Policy): RunSetup {
   const { manifest, imu, odometry } = data;
   if (odometry.n < 2) throw new RangeError('analyzeRun: the odometry has fewer than two poses (bundle reader should reject this)');
-  const resolved = resolvePolicy(policy, manifest.site, manifest.robot_model ?? null);
-  const th = resolved.thresholds;
+  const ctx = runContext(manifest, odometry, policy);
   const t0 = odometry.t[0]!;
-  const dist = cumulativeDistance(odometry);
-  const clock: RunClock = { t0, distanceAt: (t) => distanceAt(odometry.t, dist, t) };
+  const clock: RunClock = { t0, distanceAt: (t) => distanceAt(odometry.t, ctx.dist, t) };
   return {
-    data, resolved, th, dist, clock,
+    ...ctx, data, clock,
     inertialInput: { manifest, imu, odometry },
-    inertialOptions: { windowS: th.window_s, windowOverlap: th.window_overlap, ...latitudeOf(data.gnss) },
+    inertialOptions: { windowS: ctx.th.window_s, windowOverlap: ctx.th.window_overlap, ...latitudeOf(data.gnss) },
   };
 }
 
-/** The parts that do not need the inertial result: GNSS comparison, then loop consistency and the pose graph. */
-function analyzeGeometry(r: RunSetup): { gnss: GnssResult | null; loops: LoopAnalysis } {
-  const { manifest, odometry } = r.data;
-  const gnss: GnssResult | null = r.data.gnss ? compareWithGnss(manifest, odometry, r.data.gnss, r.th) : null;
-  const loops = analyzeLoops({ manifest, odometry, dist: r.dist, loops: r.data.loops, gnss: gnss && gnss.ok ? gnss : null, thresholds: r.th });
-  return { gnss, loops };
-}
-
 /** Repair, triage and the report, from the three analyses. */
-function finish(r: RunSetup, inertial: InertialAnalysis, gnss: GnssResult | null, loops: LoopAnalysis): RunAnalysis {
+function finish(r: RunSetup, inertial: InertialAnalysis, { gnss, loops }: GeometryResult): RunAnalysis {
   const { data, th, dist, clock } = r;
   const { manifest, imu, odometry } = data;
   const t0 = clock.t0;
@@ -140,36 +126,46 @@ function finish(r: RunSetup, inertial: InertialAnalysis, gnss: GnssResult | null
 export function analyzeRunDetailed(data: RunData, policy: Policy = DEFAULT_POLICY): RunAnalysis {
   const r = setUp(data, policy);
   const inertial = analyzeInertial(r.inertialInput, r.inertialOptions);
-  const { gnss, loops } = analyzeGeometry(r);
-  return finish(r, inertial, gnss, loops);
+  return finish(r, inertial, analyzeGeometry(data, policy, r));
 }
 
 /**
- * The same analysis on two threads: the inertial estimators run in a helper thread while this thread compares with
- * GNSS and solves the pose graph; the report is byte-identical to `analyzeRunDetailed`'s. Columns on
- * SharedArrayBuffer (readBundle's `sharedMemory`) reach the helper without a copy.
+ * The same analysis on two threads: a helper thread compares with GNSS and solves the pose graph while this thread
+ * runs the inertial estimators; the report is byte-identical to `analyzeRunDetailed`'s. Columns on SharedArrayBuffer
+ * (readBundle's `sharedMemory`) reach the helper without a copy.
  */
-export async function analyzeRunParallel(data: RunData, policy: Policy = DEFAULT_POLICY): Promise<RunAnalysis> {
+export async function analyzeRunParallel(data: RunData, policy: Policy = DEFAULT_POLICY, geometry?: Promise<GeometryResult>): Promise<RunAnalysis> {
   const r = setUp(data, policy);
-  const pending = analyzeInertialInThread(r.inertialInput, r.inertialOptions);
-  // a failure here must not leave the helper's answer unobserved
-  pending.catch(() => undefined);
-  const { gnss, loops } = analyzeGeometry(r);
-  return finish(r, await pending, gnss, loops);
+  const pending = geometry ?? analyzeGeometryInThread(data, policy);
+  const inertial = analyzeInertial(r.inertialInput, r.inertialOptions);
+  return finish(r, inertial, await pending);
 }
 
-/** How `analyzeBundle` and its siblings run: `parallel` puts the inertial estimators on a second thread. */
+/** How `analyzeBundle` and its siblings run: `parallel` uses a second thread (see analyzeBundleDetailed). */
 export interface AnalyzeOptions {
   parallel?: boolean;
 }
 
-/** Reads a bundle and analyses it, on one thread or (parallel) two. */
+/**
+ * Reads a bundle and analyses it. With `parallel`, the columns are read onto shared memory and the geometry part
+ * (GNSS, loops, pose graph) starts on a helper thread as soon as everything but the IMU is read, so it overlaps the
+ * IMU parse and then the inertial estimators on this thread. The report is the same either way.
+ */
 export async function analyzeBundleDetailed(path: string, policy: Policy = DEFAULT_POLICY, options: AnalyzeOptions = {}): Promise<RunAnalysis & { odometry: OdometryColumns }> {
-  if (options.parallel) warmInertialThread();
-  const b = await readBundle(path, { sharedMemory: options.parallel ?? false });
-  const data: RunData = { manifest: b.manifest, imu: b.imu, odometry: b.odometry, gnss: b.gnss, loops: b.loops, stats: b.stats };
-  const out = options.parallel ? await analyzeRunParallel(data, policy) : analyzeRunDetailed(data, policy);
-  return { ...out, odometry: b.odometry };
+  if (!options.parallel) {
+    const b = await readBundle(path);
+    return { ...analyzeRunDetailed(b, policy), odometry: b.odometry };
+  }
+  warmGeometryThread();
+  let geometry: Promise<GeometryResult> | undefined;
+  const b = await readBundle(path, {
+    sharedMemory: true,
+    onBeforeImu: (parts) => {
+      // too short for an analysis: leave the error to setUp on this thread
+      if (parts.odometry.n >= 2) geometry = analyzeGeometryInThread(parts, policy);
+    },
+  });
+  return { ...(await analyzeRunParallel(b, policy, geometry)), odometry: b.odometry };
 }
 
 /** Pure analysis of one run's columnar data under a policy (default: DEFAULT_POLICY). */

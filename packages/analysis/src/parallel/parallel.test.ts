@@ -3,9 +3,11 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { readBundle } from '@plumbline/bundle';
-import { RunManifest } from '@plumbline/contracts';
+import { DEFAULT_POLICY, RunManifest } from '@plumbline/contracts';
 import { makeRunSpec, simulateRun, writeRun } from '@plumbline/simulator';
 import { analyzeBundle, analyzeRunDetailed, analyzeRunParallel, type RunData } from '../analyze-bundle.ts';
+import { analyzeGeometry } from '../geometry-part.ts';
+import { analyzeGeometryInThread } from './geometry-worker.ts';
 
 const spec = makeRunSpec({ seed: 21, durationS: 90, faults: [{ kind: 'loop-mismatch', magnitude: 6, startS: 20 }, { kind: 'time-offset', magnitude: 0.03, startS: 0 }] });
 let dir: string;
@@ -33,7 +35,9 @@ describe('analysis on two threads', () => {
   });
 
   it('reads the columns onto shared memory and gives the same report from a bundle', async () => {
-    const shared = await readBundle(bundlePath, { sharedMemory: true });
+    const early: Array<{ odometry: number; loops: number | null }> = [];
+    const shared = await readBundle(bundlePath, { sharedMemory: true, onBeforeImu: (p) => early.push({ odometry: p.odometry.n, loops: p.loops?.n ?? null }) });
+    expect(early).toEqual([{ odometry: shared.odometry.n, loops: shared.loops?.n ?? null }]);
     const plain = await readBundle(bundlePath);
     expect(shared.imu.t.buffer).toBeInstanceOf(SharedArrayBuffer);
     expect(shared.odometry.qw.buffer).toBeInstanceOf(SharedArrayBuffer);
@@ -44,17 +48,20 @@ describe('analysis on two threads', () => {
     expect(JSON.stringify(a)).toBe(JSON.stringify(b));
   });
 
-  it('passes an estimator failure in the helper thread to the caller, with its name and message', async () => {
+  it('passes a failure in the helper thread to the caller, with its name and message', async () => {
     const broken = data();
-    // a manifest without its imu section makes the inertial estimators throw (the bundle reader never lets one through)
-    const bad = { ...broken, manifest: { ...broken.manifest, imu: undefined } as unknown as RunManifest };
+    // odometry without its x column makes the path length throw (the bundle reader never lets one through)
+    const bad = { ...broken, odometry: { ...broken.odometry, x: undefined } as unknown as RunData['odometry'] };
     let expected: Error | null = null;
     try {
-      analyzeRunDetailed(bad);
+      analyzeGeometry(bad, DEFAULT_POLICY);
     } catch (e) {
       expected = e as Error;
     }
-    expect(expected).not.toBeNull();
-    await expect(analyzeRunParallel(bad)).rejects.toMatchObject({ name: expected!.name, message: expected!.message });
+    expect(expected).toBeInstanceOf(TypeError);
+    await expect(analyzeGeometryInThread(bad, DEFAULT_POLICY)).rejects.toMatchObject({ name: expected!.name, message: expected!.message });
+    // the thread is still there for the next request
+    const ok = await analyzeGeometryInThread(data(), DEFAULT_POLICY);
+    expect(ok.loops.loops.length).toBeGreaterThan(0);
   });
 });

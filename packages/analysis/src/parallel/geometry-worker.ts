@@ -1,17 +1,16 @@
 import { Worker } from 'node:worker_threads';
-import type { InertialInput, InertialOptions } from '../estimators/inertial.ts';
-import type { InertialAnalysis } from '../estimators/inertial-types.ts';
+import type { Policy } from '@plumbline/contracts';
+import type { GeometryInput, GeometryResult } from '../geometry-part.ts';
 
 const BOOT = new URL('./thread-boot.mjs', import.meta.url);
-const ENTRY = new URL('./inertial-thread.ts', import.meta.url).href;
+const ENTRY = new URL('./geometry-thread.ts', import.meta.url).href;
 
-type Pending = { resolve(r: InertialAnalysis): void; reject(e: Error): void };
-type Reply = { id: number; result?: InertialAnalysis; error?: { name: string; message: string } };
+type Pending = { resolve(r: GeometryResult): void; reject(e: Error): void };
+type Reply = { id: number; result?: GeometryResult; error?: { name: string; message: string } };
 
 /**
  * One helper thread per calling thread, started on first use and kept; it holds the process open only while a request
- * is out.
- * Requests are answered in order; a thread that dies fails what it had and is replaced on the next request.
+ * is out. Requests are answered in order; a thread that dies fails what it had and is replaced on the next request.
  */
 let slot: { worker: Worker; pending: Map<number, Pending> } | null = null;
 let nextId = 1;
@@ -34,27 +33,30 @@ function spawn(): NonNullable<typeof slot> {
     if (slot === mine) slot = null;
   };
   worker.on('error', fail);
-  worker.on('exit', (code) => fail(new Error(`inertial analysis thread exited with code ${code}`)));
+  worker.on('exit', (code) => fail(new Error(`analysis helper thread exited with code ${code}`)));
   slot = mine;
   return mine;
 }
 
 /** Starts the helper thread ahead of use (its start-up then overlaps the bundle read). */
-export function warmInertialThread(): void {
+export function warmGeometryThread(): void {
   if (!slot) spawn();
 }
 
 /**
- * `analyzeInertial` in the helper thread. Columns on SharedArrayBuffer are shared, others are copied. Equal input gives
- * the same result as the call in this thread.
+ * `analyzeGeometry` in the helper thread. Columns on SharedArrayBuffer are shared, others are copied. Equal input gives
+ * the same result as the call in this thread. The promise never goes unobserved: callers that fail before awaiting it
+ * leave no unhandled rejection.
  */
-export function analyzeInertialInThread(input: InertialInput, options: InertialOptions): Promise<InertialAnalysis> {
+export function analyzeGeometryInThread(input: GeometryInput, policy: Policy): Promise<GeometryResult> {
   const s = slot ?? spawn();
   const id = nextId++;
-  return new Promise<InertialAnalysis>((resolve, reject) => {
+  const answer = new Promise<GeometryResult>((resolve, reject) => {
     // held open while a request is out, so a process awaiting only this answer does not exit
     if (s.pending.size === 0) s.worker.ref();
     s.pending.set(id, { resolve, reject });
-    s.worker.postMessage({ id, input, options });
+    s.worker.postMessage({ id, input, policy });
   });
+  answer.catch(() => undefined);
+  return answer;
 }
