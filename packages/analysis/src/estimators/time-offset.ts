@@ -7,7 +7,8 @@
  * consecutive orientations); magnitudes do not depend on the unknown IMU–odometry rotation. For a trial lag τ the gyro
  * is integrated exactly over each odometry interval shifted by τ (running trapezoidal integral, evaluated between
  * samples), so both series describe the same time spans and no resampling bias depends on the sub-sample phase;
- * the normalised correlation is searched over ±maxLag on a 10 ms lattice, then at 2.5 ms around the best lag, and
+ * the normalised correlation is searched over ±maxLag on a 10 ms lattice (its even points, then the neighbours of the
+ * best, as the peak is hundreds of ms wide), then at 2.5 ms around the best lag, and
  * refined by parabolas through three points at 2.5, 0.5 and 0.1 ms spacing (sub-sample interpolation, common
  * practice). Uncertainty: linearised delay estimation, σ² = σ_res² / Σ ȯ², counted over independent odometry
  * samples (the Cramér–Rao form for a time delay of a known waveform; S. M. Kay, "Fundamentals of Statistical Signal
@@ -241,29 +242,42 @@ function offsetInWindow(
     gyroAtLag(d, tau);
     return pearson(s.g, s.o, m, d.step);
   };
-  const search = (lo: number, hi: number, step: number, best: { c: number; tau: number }) => {
-    for (let tau = lo; tau <= hi + 1e-12; tau += step) {
-      const c = corr(tau);
-      if (c > best.c) [best.c, best.tau] = [c, tau];
-    }
-  };
-  const best = { c: -2, tau: 0 };
-  // Coarse lattice on every 4th odometry interval (the peak is hundreds of ms wide), then all intervals at 2.5 ms.
+  // Coarse lattice (10 ms over ±maxLag) on every 4th odometry interval: its even points first, then the two
+  // neighbours of the best of them; the peak is hundreds of ms wide, so this finds the lattice maximum at about half
+  // the cost of every point.
   d.step = 4;
-  search(-maxLag, maxLag, 0.01, best);
+  const last = Math.floor((2 * maxLag + 1e-12) / 0.01);
+  const lattice = (k: number) => -maxLag + k * 0.01;
+  let kBest = 0, cBest = -2;
+  for (let k = 0; k <= last; k += 2) {
+    const c = corr(lattice(k));
+    if (c > cBest) [cBest, kBest] = [c, k];
+  }
+  for (const k of [kBest - 1, kBest + 1]) {
+    if (k < 0 || k > last) continue;
+    const c = corr(lattice(k));
+    if (c > cBest) [cBest, kBest] = [c, k];
+  }
+  // Then all intervals at 2.5 ms within ±7.5 ms of the lattice maximum.
   d.step = 1;
-  best.c = corr(best.tau);
-  search(best.tau - 0.0075, best.tau + 0.0075, 0.0025, best);
+  const tau0 = lattice(kBest);
+  const fine = new Float64Array(7);
+  fine[3] = corr(tau0);
+  let jBest = 3;
+  for (let j = 0; j < 7; j++) {
+    if (j !== 3) fine[j] = corr(tau0 + (j - 3) * 0.0025);
+    if (fine[j]! > fine[jBest]!) jBest = j;
+  }
+  const best = { c: fine[jBest]!, tau: tau0 + (jBest - 3) * 0.0025 };
   if (best.c < (options.minPeakCorrelation ?? 0.6)) return { reason: 'unobservable: no distinct correlation peak', peak: best.c };
   if (Math.abs(best.tau) >= maxLag - 0.001) return { reason: 'insufficient: correlation peak at the edge of the search range', peak: best.c };
   // Parabolas through three points at shrinking spacing around the previous vertex, which removes the pull of a wide
-  // parabola towards the lattice point.
-  const vertex = (tau: number, c0: number, h: number): number => {
-    const cm = corr(tau - h), cp = corr(tau + h);
+  // parabola towards the lattice point. The first one reuses the 2.5-ms neighbours when the search has them.
+  const vertex = (tau: number, c0: number, h: number, cm = corr(tau - h), cp = corr(tau + h)): number => {
     const den = cm - 2 * c0 + cp;
     return tau + (den < 0 ? Math.max(-1, Math.min(1, (0.5 * (cm - cp)) / den)) : 0) * h;
   };
-  const first = vertex(best.tau, best.c, 0.0025);
+  const first = jBest > 0 && jBest < 6 ? vertex(best.tau, best.c, 0.0025, fine[jBest - 1], fine[jBest + 1]) : vertex(best.tau, best.c, 0.0025);
   const second = vertex(first, corr(first), 0.0005);
   const offset = vertex(second, corr(second), 0.0001);
   const { sigma, tEff } = delaySigma(d, offset);
