@@ -1,4 +1,4 @@
-import { createHash } from 'node:crypto';
+import { createHash, randomBytes } from 'node:crypto';
 import { existsSync, mkdtempSync, readdirSync, readFileSync, rmSync, statSync, utimesSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -107,6 +107,34 @@ describe('blob store: writeStream', () => {
     expect(files(dir)).toEqual([]);
   });
 
+  it('writes a body of many batches in odd-sized chunks byte for byte, flushing to disk along the way', async () => {
+    // past the 1 MiB write batch and the 16 MiB background flush, with chunks that straddle batch boundaries
+    const data = randomBytes(20 * 1024 * 1024 + 123);
+    const probe = await open(join(dir, 'probe'), 'w');
+    const proto = Object.getPrototypeOf(probe) as { datasync: () => Promise<void> };
+    await probe.close();
+    rmSync(join(dir, 'probe'));
+    const spy = vi.spyOn(proto, 'datasync');
+    try {
+      const info = await blobs.writeStream(chunked(data, 65_537), { maxBytes: data.length });
+      expect(info).toMatchObject({ sha256: sha256(data), sizeBytes: data.length });
+      expect(readFileSync(info.path).equals(data)).toBe(true);
+      expect(spy).toHaveBeenCalled();
+    } finally {
+      spy.mockRestore();
+    }
+  });
+
+  it('keeps the stored copy of identical content and drops the new temp file', async () => {
+    const data = bytes(50_000, 3);
+    const a = await blobs.writeStream(chunked(data, 4096), { maxBytes: 100_000 });
+    const inode = statSync(a.path).ino;
+    const b = await blobs.writeStream(chunked(data, 7000), { maxBytes: 100_000 });
+    expect(b).toEqual(a);
+    expect(statSync(b.path).ino).toBe(inode);
+    await vi.waitFor(() => expect(files(join(dir, 'tmp'))).toEqual([]));
+  });
+
   it('refuses to open a missing blob and a malformed digest', () => {
     expect(() => blobs.open('0'.repeat(64))).toThrow(NotFoundError);
     expect(() => blobs.pathOf('../../etc/passwd')).toThrow(RangeError);
@@ -137,6 +165,16 @@ describe('blob store: resumable sessions', () => {
     await expect(blobs.appendChunk(temp, 1000, chunked(bytes(5000), 500), { maxBytes: 3000 })).rejects.toBeInstanceOf(BlobTooLargeError);
     expect(statSync(temp).size).toBe(1000);
     await expect(blobs.appendChunk(temp, 1000, chunked(bytes(5000), 500, 1500), { maxBytes: 10_000 })).rejects.toThrow(/connection reset/);
+    expect(statSync(temp).size).toBe(1000);
+  });
+
+  it('cuts a chunk of several MiB that fails midway back to the last good offset, with no write landing later', async () => {
+    const temp = await blobs.createTemp('upload-4');
+    const head = randomBytes(1000);
+    await blobs.appendChunk(temp, 0, head, { maxBytes: 8 << 20 });
+    await expect(blobs.appendChunk(temp, 1000, chunked(randomBytes(6 << 20), 65_536, 5 << 20), { maxBytes: 8 << 20 })).rejects.toThrow(/connection reset/);
+    expect(readFileSync(temp).equals(head)).toBe(true);
+    await new Promise((r) => setTimeout(r, 20));
     expect(statSync(temp).size).toBe(1000);
   });
 

