@@ -119,6 +119,18 @@ export function decodeCursor(sort: RunSort, cursor: string): unknown[] {
   return k;
 }
 
+/**
+ * A key naming one list answer: every field of the query in a fixed order, types kept (JSON), so two queries share a
+ * key only when they build the same SQL with the same parameters. Built without the SQL, the cursor decoding or the
+ * date normalisation, which then run only when the page is not cached.
+ */
+export function listQueryKey(q: RunListQuery): string {
+  return JSON.stringify([
+    q.sort, q.limit, q.cursor, q.robot_id, q.site, q.verdict, q.status, q.flag_kind, q.reviewed,
+    q.score_min, q.score_max, q.started_after, q.started_before,
+  ]);
+}
+
 /** The page query of a list request: rows plus their sort keys `k0..kn`, one row more than the limit. */
 export function buildListSql(query: RunListQuery, columns: string): SqlPart & { keyCount: number } {
   const filter = runFilter(query);

@@ -2,7 +2,7 @@ import { randomUUID } from 'node:crypto';
 import type { RunListPage, RunListQuery, RunStatus, RunSummary } from '@plumbline/contracts';
 import { RunConflictError } from './errors.ts';
 import { RUN_COLUMNS, isoNow, toRunSummary, type RunRow } from './rows.ts';
-import { buildListSql, encodeCursor, runFilter, type SqlPart } from './run-list.ts';
+import { buildListSql, encodeCursor, listQueryKey, runFilter, type SqlPart } from './run-list.ts';
 import type { Statement } from 'better-sqlite3';
 import type { AnalysisTicket, Db, RunCreate, RunCreateResult, RunRepository } from './types.ts';
 
@@ -138,11 +138,13 @@ export function createRunRepository(db: Db): RunRepository {
 
   /** The returned page may be shared with later identical calls until the database changes: do not modify it. */
   const list = (query: RunListQuery): RunListPage => {
-    const page = buildListSql(query, RUN_COLUMNS);
     sameDatabase();
-    const key = `${page.sql}\u0000${JSON.stringify(page.params)}`;
+    // keyed by the query itself: a cached answer skips building the SQL and decoding the cursor (a cursor that fails
+    // to decode throws below and is never cached, so a cached key always names a valid one)
+    const key = listQueryKey(query);
     let result = pages.get(key);
     if (result === undefined) {
+      const page = buildListSql(query, RUN_COLUMNS);
       if (pages.size >= 256) pages.clear();
       result = readPage(query, page);
       pages.set(key, result);

@@ -37,6 +37,10 @@ export async function buildApp(config: Config, deps: AppDeps): Promise<FastifyIn
   const app: FastifyInstance = Fastify({
     loggerInstance: deps.logger as FastifyBaseLogger,
     genReqId: (req) => requestIdFrom(req.headers['x-request-id'], randomUUID),
+    // Each request logs through a child bound to its id. While the logger is silent nothing is written either way, so
+    // the child (whose bindings pino serialises when it is made) is not built; the level is read per request, so a
+    // logger made louder at run time gets request children again from the next request on.
+    childLoggerFactory: (logger, bindings, opts) => (logger.level === 'silent' && opts.level === undefined ? logger : logger.child(bindings, opts)),
     bodyLimit: 1024 * 1024,
     trustProxy: false,
     return503OnClosing: true,
@@ -49,9 +53,11 @@ export async function buildApp(config: Config, deps: AppDeps): Promise<FastifyIn
     limits: { fileSize: config.maxUploadBytes + 1, files: 1, fields: 4, parts: 5, fieldSize: 1024 },
     throwFileSizeLimit: false,
   });
-  app.addHook('onResponse', async (req, reply) => {
+  // callback form: a synchronous hook needs no promise per request
+  app.addHook('onResponse', (req, reply, done) => {
     const route = req.routeOptions.url ?? 'unmatched';
     metrics.httpDuration.observe({ method: req.method, route, status: String(reply.statusCode) }, reply.elapsedTime / 1000);
+    done();
   });
 
   const nowMs = () => deps.clock.now().getTime();

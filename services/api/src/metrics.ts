@@ -10,6 +10,29 @@ const labelKey = (l: Labels): string =>
     .sort()
     .map((k) => `${k}="${escapeLabel(l[k] ?? '')}"`)
     .join(',');
+/**
+ * The canonical key of label sets seen before, by their names and values in the caller's order: a repeated label set
+ * (the same method, route and status on every request) skips the sort and the escaping. Bounded; a full cache is
+ * emptied and refilled.
+ */
+class LabelKeys {
+  private readonly keys = new Map<string, string>();
+  of(l: Labels): string {
+    let raw = '';
+    // length-prefixed, so no choice of names and values makes two different label sets collide
+    for (const name in l) {
+      const v = l[name] ?? '';
+      raw += `${name.length}:${name}${v.length}:${v}`;
+    }
+    let k = this.keys.get(raw);
+    if (k === undefined) {
+      if (this.keys.size >= 1024) this.keys.clear();
+      k = labelKey(l);
+      this.keys.set(raw, k);
+    }
+    return k;
+  }
+}
 const fmt = (n: number): string => (n === Infinity ? '+Inf' : Number.isFinite(n) ? String(n) : 'NaN');
 
 interface Metric {
@@ -18,12 +41,13 @@ interface Metric {
 
 export class Counter implements Metric {
   private readonly values = new Map<string, number>();
+  private readonly keys = new LabelKeys();
   constructor(
     readonly name: string,
     readonly help: string,
   ) {}
   inc(labels: Labels = {}, by = 1): void {
-    const k = labelKey(labels);
+    const k = this.keys.of(labels);
     this.values.set(k, (this.values.get(k) ?? 0) + by);
   }
   render(): string {
@@ -52,6 +76,7 @@ export class CallbackGauge implements Metric {
 
 export class Histogram implements Metric {
   private readonly series = new Map<string, { labels: Labels; counts: Float64Array; sum: number; count: number }>();
+  private readonly keys = new LabelKeys();
   /** `buckets`: upper bounds, ascending, without +Inf. */
   constructor(
     readonly name: string,
@@ -59,7 +84,7 @@ export class Histogram implements Metric {
     readonly buckets: readonly number[],
   ) {}
   observe(labels: Labels, value: number): void {
-    const k = labelKey(labels);
+    const k = this.keys.of(labels);
     let s = this.series.get(k);
     if (!s) {
       s = { labels, counts: new Float64Array(this.buckets.length), sum: 0, count: 0 };

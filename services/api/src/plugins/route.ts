@@ -1,3 +1,4 @@
+import type { FastifyRequest } from 'fastify';
 import type { Role } from '@plumbline/contracts';
 import type { z } from 'zod';
 import { errors } from '../errors.ts';
@@ -22,6 +23,39 @@ function parsePart<S extends z.ZodType>(schema: S | undefined, value: unknown, w
   return r.data;
 }
 
+/** True for a plain object whose values are all primitives (safe to share once frozen). */
+function isFlat(x: unknown): x is Record<string, unknown> {
+  if (typeof x !== 'object' || x === null || Array.isArray(x)) return false;
+  for (const k in x) {
+    const v = (x as Record<string, unknown>)[k];
+    if (typeof v === 'object' && v !== null) return false;
+  }
+  return true;
+}
+
+/**
+ * The checked query of a GET route, remembered by the raw query string (bounded per route): parsing a query string
+ * and checking it against a schema is a pure function of that string, and clients repeat the same few (a list
+ * filter, page after page). Only flat answers are kept, frozen, so a handler cannot change what the next request
+ * gets; a query that fails its check is never kept and fails again the same way.
+ */
+function queryChecker<Q extends z.ZodType>(schema: Q): (req: FastifyRequest) => z.output<Q> {
+  const checked = new Map<string, z.output<Q>>();
+  return (req) => {
+    const at = req.url.indexOf('?');
+    const raw = at < 0 ? '' : req.url.slice(at + 1);
+    const known = checked.get(raw);
+    if (known !== undefined) return known;
+    const value = parsePart(schema, req.query, 'query');
+    if (isFlat(value)) {
+      if (checked.size >= 256) checked.clear();
+      Object.freeze(value);
+      checked.set(raw, value);
+    }
+    return value;
+  };
+}
+
 /** Frozen responses already checked against a schema, by the identity of the object the handler returned. */
 const checkedBodies = new WeakMap<object, { schema: z.ZodType; json: Buffer }>();
 
@@ -36,6 +70,7 @@ export function defineRoute<P extends z.ZodType, Q extends z.ZodType, B extends 
   handler: RouteHandler<P, Q, B>,
 ): void {
   ctx.openapi.add(spec);
+  const checkQuery = spec.query && spec.method === 'GET' ? queryChecker(spec.query) : null;
   const authFirst: readonly Role[] | null = spec.bodyLimit && spec.auth !== 'public' ? spec.auth : null;
   ctx.app.route({
     method: spec.method,
@@ -43,16 +78,21 @@ export function defineRoute<P extends z.ZodType, Q extends z.ZodType, B extends 
     config: { operationId: spec.operationId },
     ...(spec.bodyLimit ? { bodyLimit: spec.bodyLimit } : {}),
     // A route that takes a large body checks the token before the body is read, so nobody without one can make the
-    // server buffer and parse it.
-    onRequest: async (req) => {
-      if (authFirst) ctx.authenticate(req, authFirst);
-    },
+    // server buffer and parse it. (Other routes get no hook at all: it would cost a call per request.)
+    onRequest: authFirst
+      ? [
+          (req, _reply, done) => {
+            ctx.authenticate(req, authFirst);
+            done();
+          },
+        ]
+      : [],
     handler: async (req, reply) => {
       const principal = spec.auth === 'public' ? (null as unknown as Principal) : ctx.authenticate(req, spec.auth);
       if (spec.preHandler) await spec.preHandler(req);
       const input: RouteInput<P, Q, B> = {
         params: parsePart(spec.params, req.params, 'path parameters'),
-        query: parsePart(spec.query, req.query, 'query'),
+        query: checkQuery ? checkQuery(req) : parsePart(spec.query, req.query, 'query'),
         body: parsePart(spec.body, req.body, 'body'),
         principal,
       };

@@ -1,7 +1,7 @@
 import type { FastifyInstance } from 'fastify';
 
 /** Response headers every reply carries. The dashboard is same-origin and script files are self-hosted. */
-const BASE_HEADERS: Record<string, string> = {
+const BASE_HEADERS: Readonly<Record<string, string>> = {
   'x-content-type-options': 'nosniff',
   'x-frame-options': 'DENY',
   'referrer-policy': 'no-referrer',
@@ -18,9 +18,11 @@ const BASE_HEADERS: Record<string, string> = {
  */
 export function registerSecurity(app: FastifyInstance, opts: { corsOrigins: readonly string[]; hsts: boolean }): void {
   const allowed = new Set(opts.corsOrigins);
-  app.addHook('onRequest', async (req, reply) => {
-    for (const [k, v] of Object.entries(BASE_HEADERS)) reply.header(k, v);
-    if (opts.hsts) reply.header('strict-transport-security', 'max-age=31536000');
+  const fixed: Array<[string, string]> = Object.entries(BASE_HEADERS);
+  if (opts.hsts) fixed.push(['strict-transport-security', 'max-age=31536000']);
+  // callback form: a synchronous hook needs no promise per request
+  app.addHook('onRequest', (req, reply, done) => {
+    for (const [k, v] of fixed) reply.header(k, v);
     reply.header('x-request-id', String(req.id));
     const origin = req.headers.origin;
     if (typeof origin === 'string' && allowed.has(origin)) {
@@ -31,10 +33,11 @@ export function registerSecurity(app: FastifyInstance, opts: { corsOrigins: read
         reply.header('access-control-allow-methods', 'GET, POST, PUT, DELETE');
         reply.header('access-control-allow-headers', 'authorization, content-type, x-request-id');
         reply.header('access-control-max-age', '600');
-        return reply.code(204).send();
+        reply.code(204).send();
+        return;
       }
     }
-    return undefined;
+    done();
   });
 }
 
