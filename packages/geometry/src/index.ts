@@ -14,6 +14,7 @@ export type { CusumAlarm, StepChangeResult } from './change-point.ts';
 export { lttb } from './lttb.ts';
 export { PoseInterpolator, poseAt, searchFloor } from './pose-interpolator.ts';
 export { umeyama, applySimilarity } from './umeyama.ts';
+export { nearestRotation } from './svd3.ts';
 export type { PointColumns, UmeyamaOptions, UmeyamaResult } from './umeyama.ts';
 export type { Vec3 } from './vec3.ts';
 export type { Mat3 } from './mat3.ts';

@@ -27,9 +27,14 @@ export interface BlockCholesky {
   solve(out: Float64Array, rhs: Float64Array): Float64Array;
 }
 
-/** Prepares the ordering, symbolic factor and assembly map for a block pattern given as node pairs. */
-export function createBlockCholesky(n: number, b: number, pairs: Int32Array): BlockCholesky {
-  const sym = minimumDegreeSymbolic(n, pairs);
+/**
+ * Prepares the ordering, symbolic factor and assembly map for a block pattern given as node pairs. `symbolic` (from
+ * `minimumDegreeSymbolic(n, pairs)` or another factor of the same pattern) skips the ordering: it depends on the
+ * pattern alone, not on the block size, so systems of several block sizes over one graph share it.
+ */
+export function createBlockCholesky(n: number, b: number, pairs: Int32Array, symbolic?: SymbolicCholesky): BlockCholesky {
+  const sym = symbolic ?? minimumDegreeSymbolic(n, pairs);
+  if (sym.n !== n) throw new RangeError(`symbolic factor is for ${sym.n} nodes, not ${n}`);
   const { perm, iperm, colStart, rowIdx } = sym;
   const bb = b * b;
   const m = pairs.length / 2;

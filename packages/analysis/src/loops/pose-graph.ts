@@ -88,7 +88,8 @@ function robustWeight(chi2: number, k: number): number {
   return s <= k ? 1 : k / s;
 }
 
-function totalCost(g: PoseGraph): number {
+/** Σ of the robust (Huber) cost over the active edges at the current state: the objective of `optimizePoseGraph`. */
+export function poseGraphCost(g: PoseGraph): number {
   let c = 0;
   for (let e = 0; e < g.m; e++) if (g.active[e]) c += robustCost(edgeChi2(g, e), g.huber[e]!);
   return c;
@@ -111,6 +112,8 @@ export interface PoseGraphSolver {
   /** Pair index of each edge and whether the edge runs against the stored pair direction. */
   pairOf: Int32Array;
   flipped: Uint8Array;
+  /** Factors of other block sizes on the same pattern (linear initialisation), made on first use. */
+  byWidth: Map<number, BlockCholesky>;
 }
 
 export function createPoseGraphSolver(g: PoseGraph): PoseGraphSolver {
@@ -132,7 +135,18 @@ export function createPoseGraphSolver(g: PoseGraph): PoseGraphSolver {
     flipped[e] = a === lo ? 0 : 1;
   }
   const pairs = Int32Array.from(pairList);
-  return { chol: createBlockCholesky(g.n, graphDim(g), pairs), pairs, pairOf, flipped };
+  const chol = createBlockCholesky(g.n, graphDim(g), pairs);
+  return { chol, pairs, pairOf, flipped, byWidth: new Map([[graphDim(g), chol]]) };
+}
+
+/** Cholesky of b×b-block systems on the graph's pattern, sharing the solver's ordering (made on first use). */
+export function patternCholesky(sv: PoseGraphSolver, b: number): BlockCholesky {
+  let c = sv.byWidth.get(b);
+  if (!c) {
+    c = createBlockCholesky(sv.chol.n, b, sv.pairs, sv.chol.symbolic);
+    sv.byWidth.set(b, c);
+  }
+  return c;
 }
 
 /** Assembles H = Σ Jᵀ·w·W·J (diagonal and pair blocks) and g = Σ Jᵀ·w·W·r over active edges. */
@@ -224,7 +238,7 @@ export function optimizePoseGraph(
   const diag = new Float64Array(g.n * dd), off = new Float64Array((solver.pairs.length / 2) * dd);
   const grad = new Float64Array(N), shift = new Float64Array(N), delta = new Float64Array(N);
   const backup = { R: new Float64Array(g.R.length), t: new Float64Array(g.t.length), s: new Float64Array(g.s.length) };
-  let cost = totalCost(g);
+  let cost = poseGraphCost(g);
   const initialCost = cost;
   let lambda = 1e-4, nu = 2, it = 0, solves = 0;
   for (; it < maxIt; it++) {
@@ -247,7 +261,7 @@ export function optimizePoseGraph(
       backup.t.set(g.t);
       backup.s.set(g.s);
       applyStep(g, delta);
-      const next = totalCost(g);
+      const next = poseGraphCost(g);
       // Gain ratio ρ: actual over predicted decrease of Σχ² (the model decrease of Σ rᵀWr is δᵀ(λDδ − g)).
       const rho = (cost - next) / Math.max(predicted, 1e-300);
       if (next <= cost) {
