@@ -16,7 +16,7 @@
  */
 import { quat } from '@plumbline/geometry';
 import type { ImuColumns } from '@plumbline/bundle';
-import { createState, finish, resetState, step, type PreState } from './preintegration-core.ts';
+import { createState, finish, integrateRange, resetState, type PreState } from './preintegration-core.ts';
 import type { Unsupported } from './types.ts';
 
 export interface ImuNoise {
@@ -75,38 +75,6 @@ export function nominalPeriod(t: Float64Array, n: number): number {
   for (let i = 0; i < m; i++) d[i] = t[i + 1]! - t[i]!;
   d.sort();
   return d[m >> 1]!;
-}
-
-/**
- * Integrates [ta, tb] into `st` starting at sample j (t_j ≤ ta). Returns the index to start the next interval from,
- * or −1 when a gap or the end of the data breaks the interval.
- */
-function integrateRange(
-  st: PreState, imu: ImuColumns, j: number, ta: number, tb: number,
-  bg: Float64Array, ba: Float64Array, qg: number, qa: number, maxGap: number,
-): number {
-  const t = imu.t;
-  let s0 = ta;
-  while (s0 < tb) {
-    if (j + 1 >= imu.n) return -1;
-    const tj = t[j]!, tk = t[j + 1]!, span = tk - tj;
-    if (!(span > 0) || span > maxGap) return -1;
-    const s1 = tk < tb ? tk : tb;
-    const h = s1 - s0;
-    if (h > 0) {
-      const f = (0.5 * (s0 + s1) - tj) / span; // mean of the linear interpolant over [s0, s1]
-      const g = 1 - f;
-      step(
-        st,
-        g * imu.gx[j]! + f * imu.gx[j + 1]! - bg[0]!, g * imu.gy[j]! + f * imu.gy[j + 1]! - bg[1]!, g * imu.gz[j]! + f * imu.gz[j + 1]! - bg[2]!,
-        g * imu.ax[j]! + f * imu.ax[j + 1]! - ba[0]!, g * imu.ay[j]! + f * imu.ay[j + 1]! - ba[1]!, g * imu.az[j]! + f * imu.az[j + 1]! - ba[2]!,
-        h, qg, qa,
-      );
-    }
-    s0 = s1;
-    if (s1 === tk) j++;
-  }
-  return j;
 }
 
 /**
