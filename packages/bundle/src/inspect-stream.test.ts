@@ -1,3 +1,4 @@
+import { randomBytes } from 'node:crypto';
 import { readdir, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
@@ -54,6 +55,18 @@ describe('streaming upload check against the file check', () => {
     expect('summary' in gz && gz.summary?.kind).toBe('tar.gz');
     const tar = await same(await tarBuffer(filesAsTarEntries(files)));
     expect('summary' in tar && tar.summary?.kind).toBe('tar');
+  });
+
+  it('gives the summary of the file check for an archive of several MiB fed in request-sized chunks', async () => {
+    // incompressible bytes, so the compressed stream spans several of the check's 1 MiB feed pieces and inflate jobs
+    const noise = { name: 'imu.csv.gz', data: new Uint8Array(randomBytes(5 * 1024 * 1024 + 321)) };
+    const bytes = await tarBuffer([...filesAsTarEntries(files), noise], true);
+    const tmp = await tempDir();
+    const file = await fromFile(bytes, { tmpDir: tmp });
+    expect('summary' in file && file.summary?.entries).toContain('imu.csv.gz');
+    expect(await streamed(bytes, 65_536, { tmpDir: tmp })).toEqual(file);
+    expect(await streamed(bytes.subarray(0, bytes.length - 100_000), 65_536, { tmpDir: tmp })).toEqual({ code: 'ARCHIVE_CORRUPT' });
+    expect(await readdir(tmp)).toEqual([]);
   });
 
   it('refuses a gzip bomb with ARCHIVE_RATIO, also when a later entry breaks another limit', async () => {
