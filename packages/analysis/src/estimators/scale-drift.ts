@@ -197,37 +197,72 @@ function findSteps(raw: { t: Float64Array; value: Float64Array; sigma: Float64Ar
   const minPct = options.minStepPct ?? 2.5;
   const n = raw.t.length;
   const steps: ScaleStep[] = [];
+  const stepT: number[] = []; // accepted step times, ascending
+  // Candidate per window centre (z NaN: none). It depends only on accepted steps within 4 window lengths of the centre,
+  // so after each acceptance only those windows are scanned again.
+  const z = new Float64Array(n).fill(Number.NaN), zBefore = new Float64Array(n), zAfter = new Float64Array(n);
+  const scan = (w: number): void => {
+    z[w] = Number.NaN;
+    const tb = raw.t[w]!;
+    if (anyStep(stepT, tb - 2 * windowS, tb + 2 * windowS, (t) => Math.abs(t - tb) < windowS)) return;
+    let wb = 0, sb = 0, wa = 0, sa = 0;
+    // Window centres are sorted: only neighbours within 3.5 window lengths count.
+    let j0 = w;
+    while (j0 > 0 && raw.t[j0 - 1]! >= tb - 3.5 * windowS) j0--;
+    for (let j = j0; j < n && raw.t[j]! <= tb + 3.5 * windowS; j++) {
+      const v = raw.value[j]!, sg = raw.sigma[j]!;
+      if (!Number.isFinite(v) || !(sg > 0)) continue;
+      const tj = raw.t[j]!, dt = tj - tb, wt = 1 / (sg * sg);
+      if (dt <= -windowS / 2 && dt >= -3.5 * windowS) {
+        const lo = tj - windowS / 2;
+        if (!anyStep(stepT, lo, tb, (t) => t >= lo && t <= tb)) [wb, sb] = [wb + wt, sb + wt * v];
+      } else if (dt >= windowS / 2 && dt <= 3.5 * windowS) {
+        const hi = tj + windowS / 2;
+        if (!anyStep(stepT, tb, hi, (t) => t >= tb && t <= hi)) [wa, sa] = [wa + wt, sa + wt * v];
+      }
+    }
+    if (wb === 0 || wa === 0) return;
+    const before = sb / wb, after = sa / wa;
+    const zw = Math.abs(after - before) / Math.sqrt(1 / wb + 1 / wa);
+    if (zw > 8 && Math.abs(after / before - 1) * 100 >= minPct) [z[w], zBefore[w], zAfter[w]] = [zw, before, after];
+  };
+  for (let w = 0; w < n; w++) scan(w);
+  // locateStep of the last acceptance per window: a candidate that survives its own step (located more than a window
+  // away from the centre) comes back unchanged, and so would its location.
+  const located = new Map<number, { before: number; after: number; at: ScaleStep }>();
   // Greedy: accept the strongest candidate, then rescan with groups that may not reach across an accepted step.
   for (let pass = 0; pass < 50; pass++) {
-    let best: { t: number; z: number; before: number; after: number } | null = null;
-    for (let w = 0; w < n; w++) {
-      const tb = raw.t[w]!;
-      if (steps.some((st) => Math.abs(st.t - tb) < windowS)) continue;
-      let wb = 0, sb = 0, wa = 0, sa = 0;
-      // Window centres are sorted: only neighbours within 3.5 window lengths count (O(n) per scan).
-      let j0 = w;
-      while (j0 > 0 && raw.t[j0 - 1]! >= tb - 3.5 * windowS) j0--;
-      for (let j = j0; j < n && raw.t[j]! <= tb + 3.5 * windowS; j++) {
-        const v = raw.value[j]!, sg = raw.sigma[j]!;
-        if (!Number.isFinite(v) || !(sg > 0)) continue;
-        const tj = raw.t[j]!, dt = tj - tb, wt = 1 / (sg * sg);
-        if (dt <= -windowS / 2 && dt >= -3.5 * windowS) {
-          if (!steps.some((st) => st.t >= tj - windowS / 2 && st.t <= tb)) [wb, sb] = [wb + wt, sb + wt * v];
-        } else if (dt >= windowS / 2 && dt <= 3.5 * windowS) {
-          if (!steps.some((st) => st.t >= tb && st.t <= tj + windowS / 2)) [wa, sa] = [wa + wt, sa + wt * v];
-        }
-      }
-      if (wb === 0 || wa === 0) continue;
-      const before = sb / wb, after = sa / wa;
-      const z = Math.abs(after - before) / Math.sqrt(1 / wb + 1 / wa);
-      if (z > 8 && Math.abs(after / before - 1) * 100 >= minPct && (best === null || z > best.z)) best = { t: tb, z, before, after };
-    }
-    if (best === null) break;
-    const at = locateStep(rows, g, ba, best.t - 1.5 * windowS, best.t + 1.5 * windowS, best.before, best.after);
+    let best = -1;
+    for (let w = 0; w < n; w++) if (!Number.isNaN(z[w]!) && (best < 0 || z[w]! > z[best]!)) best = w;
+    if (best < 0) break;
+    const tb = raw.t[best]!, before = zBefore[best]!, after = zAfter[best]!;
+    const memo = located.get(best);
+    const at = memo !== undefined && memo.before === before && memo.after === after
+      ? memo.at : locateStep(rows, g, ba, tb - 1.5 * windowS, tb + 1.5 * windowS, before, after);
+    located.set(best, { before, after, at });
     // Size from the window groups (acceleration-based scales); time from the velocity-mismatch split.
-    steps.push({ ...at, before: best.before, after: best.after, stepPct: (best.after / best.before - 1) * 100 });
+    steps.push({ ...at, before, after, stepPct: (after / before - 1) * 100 });
+    stepT.splice(lowerBound(stepT, at.t), 0, at.t);
+    for (let w = lowerBound(raw.t, at.t - 4.5 * windowS); w < n && raw.t[w]! <= at.t + 4.5 * windowS; w++) scan(w);
   }
   return steps.sort((x, y) => x.t - y.t);
+}
+
+/** First index of the ascending `xs` whose value is ≥ x (binary search). */
+function lowerBound(xs: ArrayLike<number>, x: number): number {
+  let lo = 0, hi = xs.length;
+  while (lo < hi) {
+    const mid = (lo + hi) >>> 1;
+    if (xs[mid]! < x) lo = mid + 1;
+    else hi = mid;
+  }
+  return lo;
+}
+
+/** Whether an accepted step time in [lo, hi] (a superset of the predicate's range) satisfies `test`. */
+function anyStep(stepT: number[], lo: number, hi: number, test: (t: number) => boolean): boolean {
+  for (let i = lowerBound(stepT, lo); i < stepT.length && stepT[i]! <= hi; i++) if (test(stepT[i]!)) return true;
+  return false;
 }
 
 /**
