@@ -41,11 +41,12 @@ export interface RouteInput<P extends z.ZodType, Q extends z.ZodType, B extends 
   principal: Principal;
 }
 
+/** Returns the response body (or the reply, once it has sent one itself), directly or as a promise. */
 export type RouteHandler<P extends z.ZodType, Q extends z.ZodType, B extends z.ZodType> = (
   req: FastifyRequest,
   input: RouteInput<P, Q, B>,
   reply: FastifyReply,
-) => Promise<unknown>;
+) => unknown;
 
 export type AnyRouteSpec = RouteSpec<z.ZodType, z.ZodType, z.ZodType>;
 

@@ -1,4 +1,4 @@
-import type { FastifyRequest } from 'fastify';
+import type { FastifyReply, FastifyRequest } from 'fastify';
 import type { Role } from '@plumbline/contracts';
 import type { z } from 'zod';
 import { errors } from '../errors.ts';
@@ -56,6 +56,18 @@ function queryChecker<Q extends z.ZodType>(schema: Q): (req: FastifyRequest) => 
   };
 }
 
+function isThenable(x: unknown): x is PromiseLike<unknown> {
+  return typeof x === 'object' && x !== null && typeof (x as { then?: unknown }).then === 'function';
+}
+
+/**
+ * What a route handler gives back to the framework once it has sent: nothing when the response is complete, or the
+ * reply itself (a thenable resolved when the response ends) while it is still being written, as with a stream.
+ */
+function sent(reply: FastifyReply): FastifyReply | undefined {
+  return reply.sent ? undefined : reply;
+}
+
 /** Frozen responses already checked against a schema, by the identity of the object the handler returned. */
 const checkedBodies = new WeakMap<object, { schema: z.ZodType; json: Buffer }>();
 
@@ -72,6 +84,37 @@ export function defineRoute<P extends z.ZodType, Q extends z.ZodType, B extends 
   ctx.openapi.add(spec);
   const checkQuery = spec.query && spec.method === 'GET' ? queryChecker(spec.query) : null;
   const authFirst: readonly Role[] | null = spec.bodyLimit && spec.auth !== 'public' ? spec.auth : null;
+  /** Checks and sends what the handler returned; `reply` (a thenable) while a response is still being written. */
+  const finish = (req: FastifyRequest, reply: FastifyReply, result: unknown): FastifyReply | undefined => {
+    if (reply.sent || result === reply) return reply;
+    const schema = spec.responses[reply.statusCode];
+    if (!schema || isRaw(schema)) return sent(reply.send(result));
+    // A handler may return the same frozen object again (the store shares list pages until the database changes):
+    // it was checked and serialised the first time, so only new objects are parsed and stringified.
+    const isObject = typeof result === 'object' && result !== null && Object.isFrozen(result);
+    const known = isObject ? checkedBodies.get(result) : undefined;
+    if (known !== undefined && known.schema === schema) return sent(reply.type('application/json; charset=utf-8').send(known.json));
+    const checked = schema.safeParse(result);
+    if (!checked.success) {
+      req.log.error({ operationId: spec.operationId, issues: checked.error.issues.slice(0, 5) }, 'response does not match its schema');
+      throw errors.INTERNAL(String(req.id));
+    }
+    if (!isObject) return sent(reply.send(checked.data));
+    // kept as bytes: a string would be encoded again on every send
+    const json = Buffer.from(JSON.stringify(checked.data), 'utf8');
+    checkedBodies.set(result, { schema, json });
+    return sent(reply.type('application/json; charset=utf-8').send(json));
+  };
+  const respond = (req: FastifyRequest, reply: FastifyReply, principal: Principal): PromiseLike<FastifyReply | undefined> | FastifyReply | undefined => {
+    const input: RouteInput<P, Q, B> = {
+      params: parsePart(spec.params, req.params, 'path parameters'),
+      query: checkQuery ? checkQuery(req) : parsePart(spec.query, req.query, 'query'),
+      body: parsePart(spec.body, req.body, 'body'),
+      principal,
+    };
+    const result = handler(req, input, reply);
+    return isThenable(result) ? result.then((r) => finish(req, reply, r)) : finish(req, reply, result);
+  };
   ctx.app.route({
     method: spec.method,
     url: spec.url,
@@ -87,34 +130,13 @@ export function defineRoute<P extends z.ZodType, Q extends z.ZodType, B extends 
           },
         ]
       : [],
-    handler: async (req, reply) => {
+    // Synchronous unless the pre-handler or the route handler returns a promise: a list answered from the cache is
+    // checked, serialised and sent in the same turn, without a promise per step.
+    handler: (req, reply) => {
       const principal = spec.auth === 'public' ? (null as unknown as Principal) : ctx.authenticate(req, spec.auth);
-      if (spec.preHandler) await spec.preHandler(req);
-      const input: RouteInput<P, Q, B> = {
-        params: parsePart(spec.params, req.params, 'path parameters'),
-        query: checkQuery ? checkQuery(req) : parsePart(spec.query, req.query, 'query'),
-        body: parsePart(spec.body, req.body, 'body'),
-        principal,
-      };
-      const result = await handler(req, input, reply);
-      if (reply.sent || result === reply) return reply;
-      const schema = spec.responses[reply.statusCode];
-      if (!schema || isRaw(schema)) return reply.send(result);
-      // A handler may return the same frozen object again (the store shares list pages until the database changes):
-      // it was checked and serialised the first time, so only new objects are parsed and stringified.
-      const isObject = typeof result === 'object' && result !== null && Object.isFrozen(result);
-      const known = isObject ? checkedBodies.get(result) : undefined;
-      if (known !== undefined && known.schema === schema) return reply.type('application/json; charset=utf-8').send(known.json);
-      const checked = schema.safeParse(result);
-      if (!checked.success) {
-        req.log.error({ operationId: spec.operationId, issues: checked.error.issues.slice(0, 5) }, 'response does not match its schema');
-        throw errors.INTERNAL(String(req.id));
-      }
-      if (!isObject) return reply.send(checked.data);
-      // kept as bytes: a string would be encoded again on every send
-      const json = Buffer.from(JSON.stringify(checked.data), 'utf8');
-      checkedBodies.set(result, { schema, json });
-      return reply.type('application/json; charset=utf-8').send(json);
+      const pending = spec.preHandler?.(req);
+      if (isThenable(pending)) return pending.then(() => respond(req, reply, principal));
+      return respond(req, reply, principal);
     },
   });
 }

@@ -123,7 +123,8 @@ export function registerRunRoutes(ctx: ApiContext): void {
   defineRoute(
     ctx,
     { method: 'GET', url: '/api/v1/runs', operationId: 'listRuns', summary: 'List runs (filters, sort, cursor pagination)', tag: 'runs', auth: ALL_ROLES, query: RunListQuery, responses: { 200: RunListPage } },
-    async (_req, { query, principal }) => store.runs.list(principal.role === 'robot' ? { ...query, robot_id: principal.robotId ?? '' } : query),
+    // synchronous: a page from the store's cache is sent in the same turn
+    (_req, { query, principal }) => store.runs.list(principal.role === 'robot' ? { ...query, robot_id: principal.robotId ?? '' } : query),
   );
   defineRoute(
     ctx,
