@@ -37,7 +37,8 @@ type Kind = 'tar' | 'tar.gz';
 /**
  * Request chunks (64 kB) are handed to the check in pieces of about this size: the inflate then runs on the zlib
  * thread pool one MiB per job instead of one request chunk per job, so it waits less on the receiving thread to
- * hand out the next job (the copy costs under a tenth of the inflate).
+ * hand out the next job. The copy this takes is a small part of the inflate's cost; a whole upload of 128 MB
+ * measured a few per cent less CPU with it than without.
  */
 const FEED_BYTES = 1 << 20;
 /** Bytes waiting for the check before the upload is held back (back-pressure). */
