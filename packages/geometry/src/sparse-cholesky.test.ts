@@ -98,6 +98,14 @@ describe('minimum-degree ordering', () => {
     for (let i = 0; i + 1 < n; i++) pairs.set([i, i + 1], 2 * i);
     expect(minimumDegreeSymbolic(n, pairs).colStart[n]).toBe(n - 1);
   });
+  it('orders a clique by node index with a full factor (all degrees tie; the lowest index goes first)', () => {
+    const n = 40, pairs: number[] = [];
+    for (let a = 0; a < n; a++) for (let c = a + 1; c < n; c++) pairs.push(c, a);
+    const sym = minimumDegreeSymbolic(n, pairs);
+    expect(Array.from(sym.perm)).toEqual(Array.from({ length: n }, (_, i) => i));
+    expect(sym.colStart[n]).toBe((n * (n - 1)) / 2);
+    expect(Array.from(sym.rowIdx.subarray(sym.colStart[0]!, sym.colStart[1]!))).toEqual(Array.from({ length: n - 1 }, (_, i) => i + 1));
+  });
   it('gives a single cycle fill of one block per column at most (n − 1 + n − 3)', () => {
     const n = 500, pairs: number[] = [];
     for (let i = 0; i < n; i++) pairs.push(i, (i + 1) % n);
