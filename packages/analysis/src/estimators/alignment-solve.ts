@@ -4,7 +4,7 @@
  * unknown scale and accelerometer bias. Huber weights (k = 1.345σ) with σ from the RMS of the previous iteration.
  */
 import type { AlignmentRows } from './alignment-rows.ts';
-import { solveSpd, symmetricEigen } from './small-math.ts';
+import { solveSpd, solveSpdInto, symmetricEigen } from './small-math.ts';
 
 export interface SolveSpec {
   /** Unknown scale, or a fixed scale per row (index into rows). */
@@ -50,6 +50,64 @@ function tangentBasis(d: Float64Array, b1: Float64Array, b2: Float64Array): void
   b2[2] = d[0]! * b1[1]! - d[1]! * b1[0]!;
 }
 
+/** M_r·ba (3-vector) of rows r0..r1−1, stride 3. */
+function biasTerms(rows: AlignmentRows, r0: number, r1: number, ba: Float64Array): Float64Array {
+  const out = new Float64Array(3 * (r1 - r0));
+  for (let r = r0; r < r1; r++) {
+    for (let i = 0; i < 3; i++) {
+      let v = 0;
+      for (let j = 0; j < 3; j++) v += rows.m[9 * r + 3 * i + j]! * ba[j]!;
+      out[3 * (r - r0) + i] = v;
+    }
+  }
+  return out;
+}
+
+/**
+ * Normal equations of the per-window case (free scale, fixed bias: unknowns s and the 2-DOF gravity update) into H
+ * (3×3, upper triangle) and grad, with the Huber weight per row; returns the sum of squared residuals. The same sums
+ * as the general loop of `solveAlignment`, with the Jacobian rows [λ_i, βG·b1_i, βG·b2_i] held in locals.
+ */
+function accumulateFreeScale(
+  rows: AlignmentRows, r0: number, r1: number, s: number, d: Float64Array, b1: Float64Array, b2: Float64Array, G: number,
+  mb: Float64Array, huber: number, H: Float64Array, grad: Float64Array,
+): number {
+  const lam = rows.lam, y = rows.y;
+  const d0 = d[0]!, d1 = d[1]!, d2 = d[2]!, u0 = b1[0]!, u1 = b1[1]!, u2 = b1[2]!, v0 = b2[0]!, v1 = b2[1]!, v2 = b2[2]!;
+  let h00 = 0, h01 = 0, h02 = 0, h11 = 0, h12 = 0, h22 = 0, g0 = 0, g1 = 0, g2 = 0, sse = 0;
+  for (let r = r0; r < r1; r++) {
+    const beta = rows.beta[r]!, o = 3 * r, q = 3 * (r - r0);
+    const l0 = lam[o]!, l1 = lam[o + 1]!, l2 = lam[o + 2]!;
+    const e0 = s * l0 + beta * G * d0 - mb[q]! - y[o]!;
+    const e1 = s * l1 + beta * G * d1 - mb[q + 1]! - y[o + 1]!;
+    const e2 = s * l2 + beta * G * d2 - mb[q + 2]! - y[o + 2]!;
+    const a0 = beta * G * u0, a1 = beta * G * u1, a2 = beta * G * u2;
+    const c0 = beta * G * v0, c1 = beta * G * v1, c2 = beta * G * v2;
+    const e = Math.sqrt(e0 * e0 + e1 * e1 + e2 * e2);
+    sse += e * e;
+    const w = e <= huber ? 1 : huber / e;
+    h00 += w * (l0 * l0 + l1 * l1 + l2 * l2);
+    h01 += w * (l0 * a0 + l1 * a1 + l2 * a2);
+    h02 += w * (l0 * c0 + l1 * c1 + l2 * c2);
+    g0 -= w * (l0 * e0 + l1 * e1 + l2 * e2);
+    h11 += w * (a0 * a0 + a1 * a1 + a2 * a2);
+    h12 += w * (a0 * c0 + a1 * c1 + a2 * c2);
+    g1 -= w * (a0 * e0 + a1 * e1 + a2 * e2);
+    h22 += w * (c0 * c0 + c1 * c1 + c2 * c2);
+    g2 -= w * (c0 * e0 + c1 * e1 + c2 * e2);
+  }
+  H[0] = h00;
+  H[1] = h01;
+  H[2] = h02;
+  H[4] = h11;
+  H[5] = h12;
+  H[8] = h22;
+  grad[0] = g0;
+  grad[1] = g1;
+  grad[2] = g2;
+  return sse;
+}
+
 /** Solves over rows [r0, r1). Returns null when the normal matrix is singular. */
 export function solveAlignment(rows: AlignmentRows, r0: number, r1: number, spec: SolveSpec, iterations = 6): SolveResult | null {
   const freeS = spec.scale === 'free', freeB = spec.bias === 'free';
@@ -59,43 +117,52 @@ export function solveAlignment(rows: AlignmentRows, r0: number, r1: number, spec
   let s = spec.s0;
   const ba = freeB ? new Float64Array(3) : Float64Array.from(spec.bias as Float64Array);
   const b1 = new Float64Array(3), b2 = new Float64Array(3), J = new Float64Array(3 * np), res = new Float64Array(3);
-  const H = new Float64Array(np * np), grad = new Float64Array(np);
+  const H = new Float64Array(np * np), grad = new Float64Array(np), x = new Float64Array(np), L = new Float64Array(np * np);
   let inv: Float64Array | null = null, rms = 0, huber = Number.POSITIVE_INFINITY;
   const G = spec.gravityMS2;
+  // M_r·ba of every row once (the bias is fixed during the iterations when it is not free).
+  const mb = freeB ? null : biasTerms(rows, r0, r1, ba);
   for (let it = 0; it <= iterations; it++) {
     tangentBasis(d, b1, b2);
     H.fill(0);
     grad.fill(0);
     let sse = 0;
-    for (let r = r0; r < r1; r++) {
-      const sr = freeS ? s : (spec.scale as Float64Array)[r]!;
-      const beta = rows.beta[r]!;
-      for (let i = 0; i < 3; i++) {
-        let mb = 0;
-        for (let j = 0; j < 3; j++) mb += rows.m[9 * r + 3 * i + j]! * ba[j]!;
-        res[i] = sr * rows.lam[3 * r + i]! + beta * G * d[i]! - mb - rows.y[3 * r + i]!;
-        const o = i * np;
-        if (freeS) J[o] = rows.lam[3 * r + i]!;
-        J[o + iG] = beta * G * b1[i]!;
-        J[o + iG + 1] = beta * G * b2[i]!;
-        if (freeB) for (let j = 0; j < 3; j++) J[o + iB + j] = -rows.m[9 * r + 3 * i + j]!;
-      }
-      const e = Math.sqrt(res[0]! * res[0]! + res[1]! * res[1]! + res[2]! * res[2]!);
-      sse += e * e;
-      const w = e <= huber ? 1 : huber / e;
-      for (let a = 0; a < np; a++) {
-        for (let c = a; c < np; c++) H[a * np + c] = H[a * np + c]! + w * (J[a]! * J[c]! + J[np + a]! * J[np + c]! + J[2 * np + a]! * J[2 * np + c]!);
-        grad[a] = grad[a]! - w * (J[a]! * res[0]! + J[np + a]! * res[1]! + J[2 * np + a]! * res[2]!);
+    if (freeS && mb !== null) sse = accumulateFreeScale(rows, r0, r1, s, d, b1, b2, G, mb, huber, H, grad);
+    else {
+      for (let r = r0; r < r1; r++) {
+        const sr = freeS ? s : (spec.scale as Float64Array)[r]!;
+        const beta = rows.beta[r]!;
+        for (let i = 0; i < 3; i++) {
+          let mbi = 0;
+          if (mb !== null) mbi = mb[3 * (r - r0) + i]!;
+          else for (let j = 0; j < 3; j++) mbi += rows.m[9 * r + 3 * i + j]! * ba[j]!;
+          res[i] = sr * rows.lam[3 * r + i]! + beta * G * d[i]! - mbi - rows.y[3 * r + i]!;
+          const o = i * np;
+          if (freeS) J[o] = rows.lam[3 * r + i]!;
+          J[o + iG] = beta * G * b1[i]!;
+          J[o + iG + 1] = beta * G * b2[i]!;
+          if (freeB) for (let j = 0; j < 3; j++) J[o + iB + j] = -rows.m[9 * r + 3 * i + j]!;
+        }
+        const e = Math.sqrt(res[0]! * res[0]! + res[1]! * res[1]! + res[2]! * res[2]!);
+        sse += e * e;
+        const w = e <= huber ? 1 : huber / e;
+        for (let a = 0; a < np; a++) {
+          for (let c = a; c < np; c++) H[a * np + c] = H[a * np + c]! + w * (J[a]! * J[c]! + J[np + a]! * J[np + c]! + J[2 * np + a]! * J[2 * np + c]!);
+          grad[a] = grad[a]! - w * (J[a]! * res[0]! + J[np + a]! * res[1]! + J[2 * np + a]! * res[2]!);
+        }
       }
     }
     for (let a = 0; a < np; a++) for (let c = 0; c < a; c++) H[a * np + c] = H[c * np + a]!;
     rms = Math.sqrt(sse / Math.max(1, 3 * (r1 - r0)));
     huber = 1.345 * Math.sqrt(3) * rms;
-    const sol = solveSpd(H, grad, np);
-    if (sol === null) return null;
-    inv = sol.inv;
-    if (it === iterations) break;
-    const x = sol.x;
+    // The inverse (covariance) is needed from the last pass only.
+    if (it === iterations) {
+      const sol = solveSpd(H, grad, np);
+      if (sol === null) return null;
+      inv = sol.inv;
+      break;
+    }
+    if (!solveSpdInto(x, L, H, grad, np)) return null;
     if (freeS) s += x[0]!;
     const u0 = x[iG]!, u1 = x[iG + 1]!;
     for (let i = 0; i < 3; i++) d[i] = d[i]! + u0 * b1[i]! + u1 * b2[i]!;
@@ -124,23 +191,51 @@ export function solveAlignment(rows: AlignmentRows, r0: number, r1: number, spec
   };
 }
 
-/** Closed-form start: linear least squares for (s, g) with |g| free and the bias fixed; null when singular. */
+const startH = new Float64Array(16), startB = new Float64Array(4), startL = new Float64Array(16), startX = new Float64Array(4);
+
+/**
+ * Closed-form start: linear least squares for (s, g) with |g| free and the bias fixed; null when singular. Each row
+ * component i has the Jacobian [λ_i, β·e_i], so the normal matrix holds Σλ², Σβλ_i and Σβ² (the same sums, in the
+ * same order, as the dense accumulation of those rows).
+ */
 export function linearStart(rows: AlignmentRows, r0: number, r1: number, ba: ArrayLike<number>): { s: number; g: Float64Array } | null {
-  const H = new Float64Array(16), b = new Float64Array(4), row = new Float64Array(4);
+  const ba0 = ba[0]!, ba1 = ba[1]!, ba2 = ba[2]!;
+  let ll = 0, bl0 = 0, bl1 = 0, bl2 = 0, bb0 = 0, bb1 = 0, bb2 = 0, ly = 0, by0 = 0, by1 = 0, by2 = 0;
   for (let r = r0; r < r1; r++) {
-    for (let i = 0; i < 3; i++) {
-      let y = rows.y[3 * r + i]!;
-      for (let j = 0; j < 3; j++) y += rows.m[9 * r + 3 * i + j]! * ba[j]!;
-      row.fill(0);
-      row[0] = rows.lam[3 * r + i]!;
-      row[1 + i] = rows.beta[r]!;
-      for (let a = 0; a < 4; a++) {
-        for (let c = 0; c < 4; c++) H[a * 4 + c] = H[a * 4 + c]! + row[a]! * row[c]!;
-        b[a] = b[a]! + row[a]! * y;
-      }
-    }
+    const beta = rows.beta[r]!, o = 3 * r, q = 9 * r, m = rows.m;
+    const y0 = rows.y[o]! + m[q]! * ba0 + m[q + 1]! * ba1 + m[q + 2]! * ba2;
+    const y1 = rows.y[o + 1]! + m[q + 3]! * ba0 + m[q + 4]! * ba1 + m[q + 5]! * ba2;
+    const y2 = rows.y[o + 2]! + m[q + 6]! * ba0 + m[q + 7]! * ba1 + m[q + 8]! * ba2;
+    const l0 = rows.lam[o]!, l1 = rows.lam[o + 1]!, l2 = rows.lam[o + 2]!;
+    ll += l0 * l0;
+    ll += l1 * l1;
+    ll += l2 * l2;
+    bl0 += l0 * beta;
+    bl1 += l1 * beta;
+    bl2 += l2 * beta;
+    bb0 += beta * beta;
+    bb1 += beta * beta;
+    bb2 += beta * beta;
+    ly += l0 * y0;
+    ly += l1 * y1;
+    ly += l2 * y2;
+    by0 += beta * y0;
+    by1 += beta * y1;
+    by2 += beta * y2;
   }
-  const sol = solveSpd(H, b, 4);
-  if (sol === null) return null;
-  return { s: sol.x[0]!, g: Float64Array.of(sol.x[1]!, sol.x[2]!, sol.x[3]!) };
+  const H = startH;
+  H.fill(0);
+  H[0] = ll;
+  H[1] = H[4] = bl0;
+  H[2] = H[8] = bl1;
+  H[3] = H[12] = bl2;
+  H[5] = bb0;
+  H[10] = bb1;
+  H[15] = bb2;
+  startB[0] = ly;
+  startB[1] = by0;
+  startB[2] = by1;
+  startB[3] = by2;
+  if (!solveSpdInto(startX, startL, H, startB, 4)) return null;
+  return { s: startX[0]!, g: Float64Array.of(startX[1]!, startX[2]!, startX[3]!) };
 }

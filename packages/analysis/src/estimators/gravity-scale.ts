@@ -108,7 +108,8 @@ export function estimateGravityScale(rows: AlignmentRows, worldGravityAligned: b
         continue;
       }
       const lin = linearStart(rows, r0, r1, ba);
-      const g0 = lin && Math.hypot(...lin.g) > 1 ? Float64Array.from(lin.g, (v) => v / Math.hypot(...lin.g)) : down;
+      const gn = lin ? Math.hypot(lin.g[0]!, lin.g[1]!, lin.g[2]!) : 0;
+      const g0 = lin && gn > 1 ? Float64Array.of(lin.g[0]! / gn, lin.g[1]! / gn, lin.g[2]! / gn) : down;
       const s0 = lin && lin.s > 0 ? lin.s : 1;
       const r = solveAlignment(rows, r0, r1, { scale: 'free', bias: ba, gravityMS2: G, g0, s0 });
       // Overlapping triplets share keyframes: inflate the LS sigmas by √(rows per independent triplet).

@@ -17,6 +17,16 @@ export function solveSpd(a: Float64Array, b: Float64Array, n: number): { x: Floa
 }
 
 /**
+ * Solves the symmetric positive-definite system A x = b into `x` with `l` (n×n) as scratch for the factor, without
+ * the inverse; false when A is not positive definite (same test as `solveSpd`). For iterations that need only the step.
+ */
+export function solveSpdInto(x: Float64Array, l: Float64Array, a: Float64Array, b: Float64Array, n: number): boolean {
+  if (!dense.choleskyFactor(l, a, n).ok) return false;
+  dense.choleskySolve(x, l, b, n);
+  return true;
+}
+
+/**
  * Eigen-decomposition of a symmetric n×n matrix (cyclic Jacobi): eigenvalues ascending and the matching unit
  * eigenvectors as columns of `vectors` (row-major n×n); NaN-filled when the sweeps did not converge.
  */
