@@ -1,5 +1,6 @@
 import { createBlockCholesky, so3, type BlockCholesky } from '@plumbline/geometry';
 import { PLANAR_DIM, SE3_DIM, planarEdge, se3Edge, wrapAngle } from './pose-graph-edges.ts';
+import { addSe3Edge } from './pose-graph-se3-blocks.ts';
 
 export type GraphMode = 'se3' | 'planar';
 
@@ -149,7 +150,7 @@ export function patternCholesky(sv: PoseGraphSolver, b: number): BlockCholesky {
   return c;
 }
 
-/** Assembles H = Σ Jᵀ·w·W·J (diagonal and pair blocks) and g = Σ Jᵀ·w·W·r over active edges. */
+/** Assembles H = Σ Jᵀ·w·W·J (diagonal and pair blocks) and g = Σ Jᵀ·w·W·r over active edges (SE(3) edges by blocks). */
 function assemble(g: PoseGraph, sv: PoseGraphSolver, diag: Float64Array, off: Float64Array, grad: Float64Array): void {
   const d = graphDim(g), dd = d * d, nt = g.mode === 'se3' ? 3 : 2;
   diag.fill(0);
@@ -162,6 +163,10 @@ function assemble(g: PoseGraph, sv: PoseGraphSolver, diag: Float64Array, off: Fl
     const w = robustWeight(chi2, g.huber[e]!);
     for (let a = 0; a < d; a++) wv[a] = w * (a < nt ? g.infoT[e]! : g.infoR[e]!);
     const i = g.from[e]!, j = g.to[e]!, p = sv.pairOf[e]!, fl = sv.flipped[e]!;
+    if (d === SE3_DIM) {
+      addSe3Edge(JiBuf, JjBuf, rBuf, wv[0]!, wv[3]!, diag, i * dd, j * dd, off, p * dd, fl === 1, grad, i * d, j * d);
+      continue;
+    }
     // W·J once per edge, then JᵀWJ blocks; the diagonal blocks are symmetric, so only their upper triangle is summed.
     for (let a = 0; a < d; a++) {
       const wa = wv[a]!;
