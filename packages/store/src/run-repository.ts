@@ -1,5 +1,6 @@
 import { randomUUID } from 'node:crypto';
 import type { RunListPage, RunListQuery, RunStatus, RunSummary } from '@plumbline/contracts';
+import { changeWatchOf } from './change-watch.ts';
 import { RunConflictError } from './errors.ts';
 import { RUN_COLUMNS, isoNow, toRunSummary, type RunRow } from './rows.ts';
 import { buildListSql, encodeCursor, listQueryKey, runFilter, type SqlPart } from './run-list.ts';
@@ -91,17 +92,16 @@ export function createRunRepository(db: Db): RunRepository {
     }
     return st;
   };
-  // Pages and first-page totals are cached until the database changes: `data_version` moves when another connection
-  // commits, `total_changes()` when this one writes. Both are checked on every call, so a write is seen by the next
-  // list. Counting a filter over 100k runs costs far more than the page itself, and the page query (about 1 ms on the
-  // Fleet benchmark) dominates a list request when nothing has changed between two identical requests.
-  const dataVersion = db.prepare('PRAGMA data_version').pluck();
-  const ownChanges = db.prepare('SELECT total_changes()').pluck();
+  // Pages and first-page totals are cached until the database changes (a commit by another connection or a write by
+  // this one, see change-watch.ts), checked on every call, so a write is seen by the next list. Counting a filter over
+  // 100k runs costs far more than the page itself, and the page query (about 1 ms on the Fleet benchmark) dominates a
+  // list request when nothing has changed between two identical requests.
+  const changes = changeWatchOf(db);
   let cachedAt = '';
   const totals = new Map<string, number>();
   const pages = new Map<string, RunListPage>();
   const sameDatabase = (): void => {
-    const at = `${dataVersion.get() as number}:${ownChanges.get() as number}`;
+    const at = changes.stamp();
     if (at === cachedAt) return;
     totals.clear();
     pages.clear();

@@ -1,4 +1,5 @@
 import { createAuditRepository } from './audit-repository.ts';
+import { changeWatchOf } from './change-watch.ts';
 import { createReportRepository } from './report-repository.ts';
 import { createReviewRepository } from './review-repository.ts';
 import { createRobotRepository } from './robot-repository.ts';
@@ -24,6 +25,7 @@ export function createStore(db: Db): Store {
   const pendingDeliveries = db.prepare(`SELECT count(*) FROM webhook_deliveries WHERE status = 'pending'`).pluck();
   const openUploads = db.prepare(`SELECT count(*) FROM upload_sessions WHERE state = 'open'`).pluck();
   const ping = db.prepare('SELECT 1').pluck();
+  const changes = changeWatchOf(db);
 
   return {
     runs: createRunRepository(db),
@@ -54,5 +56,6 @@ export function createStore(db: Db): Store {
         return false;
       }
     },
+    withOneChangeCheck: (fn) => changes.withOneCheck(fn),
   };
 }

@@ -1,5 +1,6 @@
 import { createHash, randomBytes, timingSafeEqual } from 'node:crypto';
 import type { Role, TokenInfo } from '@plumbline/contracts';
+import { changeWatchOf } from './change-watch.ts';
 import { isoNow } from './rows.ts';
 import type { Db, TokenRepository } from './types.ts';
 
@@ -46,10 +47,9 @@ export function createTokenRepository(db: Db): TokenRepository {
     if (!row || !equal || row.revoked_at !== null) return null;
     return toInfo(row);
   };
-  // Tokens verified since the database last changed (bounded). Any write, by this connection (`total_changes()`) or
-  // a commit by another one (`data_version`), empties it, so a revocation is effective on the next request.
-  const dataVersion = db.prepare('PRAGMA data_version').pluck();
-  const ownChanges = db.prepare('SELECT total_changes()').pluck();
+  // Tokens verified since the database last changed (bounded). Any write, by this connection or a commit by another
+  // one, empties it (see change-watch.ts), so a revocation is effective on the next request.
+  const changes = changeWatchOf(db);
   let verifiedAt = '';
   const verified = new Map<string, TokenInfo>();
 
@@ -63,7 +63,7 @@ export function createTokenRepository(db: Db): TokenRepository {
       return { token, info: toInfo(byId.get(id) as TokenRow) };
     },
     verify(token) {
-      const at = `${dataVersion.get() as number}:${ownChanges.get() as number}`;
+      const at = changes.stamp();
       if (at !== verifiedAt) {
         verified.clear();
         verifiedAt = at;

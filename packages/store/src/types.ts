@@ -273,6 +273,12 @@ export interface Store {
   stats(): StoreStats;
   /** True when the database answers a trivial query (for /readyz). */
   ping(): boolean;
+  /**
+   * Runs `fn` (synchronous) with the caches over this connection checking for commits by other connections once
+   * between them, not on every lookup: one request's token and page cost one check. Writes through this connection
+   * inside `fn` are still seen at once.
+   */
+  withOneChangeCheck<T>(fn: () => T): T;
 }
 
 export interface BlobInfo {

@@ -68,6 +68,7 @@ export async function buildApp(config: Config, deps: AppDeps): Promise<FastifyIn
     metrics,
     openapi: new OpenApiRegistry(sharedSchemas(contracts)),
     authenticate: createAuthenticator(deps.store.tokens, new TokenBucketLimiter(config.authFailureRatePerMin, 60_000, nowMs)),
+    withOneChangeCheck: (fn) => deps.store.withOneChangeCheck(fn),
     uploadLimiter: new TokenBucketLimiter(config.uploadRatePerMin, 60_000, nowMs),
   };
   registerHealthRoutes(ctx);

@@ -59,5 +59,7 @@ export interface RouteContext {
   app: FastifyInstance;
   openapi: RouteRegistry;
   authenticate: (req: FastifyRequest, roles: readonly Role[]) => Principal;
+  /** Runs the synchronous part of a request with the store's caches checking for outside commits once (see the store). */
+  withOneChangeCheck?: <T>(fn: () => T) => T;
 }
 

@@ -59,3 +59,42 @@ describe('response checks of shared frozen objects', () => {
     expect((await app.inject({ method: 'GET', url: '/page' })).statusCode).toBe(500);
   });
 });
+
+describe('one change check per request', () => {
+  it('runs the token check and a synchronous handler inside the context step, and an async continuation after it', async () => {
+    const app = Fastify({ logger: false });
+    apps.push(app);
+    registerProblemHandler(app);
+    let depth = 0;
+    const seen: string[] = [];
+    const ctx: RouteContext = {
+      app,
+      openapi: { add: () => undefined },
+      authenticate: () => {
+        seen.push(`auth:${depth}`);
+        return { tokenId: 't', role: 'lead', name: 'lead', robotId: null };
+      },
+      withOneChangeCheck: (fn) => {
+        depth++;
+        try {
+          return fn();
+        } finally {
+          depth--;
+        }
+      },
+    };
+    const spec = { method: 'GET', operationId: 'page', summary: 'page', tag: 'test', auth: ['lead'], responses: { 200: Page } } as const;
+    defineRoute(ctx, { ...spec, url: '/sync' }, () => {
+      seen.push(`sync:${depth}`);
+      return { items: [] };
+    });
+    defineRoute(ctx, { ...spec, url: '/async', operationId: 'page2' }, async () => {
+      await new Promise((r) => setImmediate(r));
+      seen.push(`async:${depth}`);
+      return { items: [] };
+    });
+    expect((await app.inject({ method: 'GET', url: '/sync' })).statusCode).toBe(200);
+    expect((await app.inject({ method: 'GET', url: '/async' })).statusCode).toBe(200);
+    expect(seen).toEqual(['auth:1', 'sync:1', 'auth:1', 'async:0']);
+  });
+});

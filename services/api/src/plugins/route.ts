@@ -115,6 +115,13 @@ export function defineRoute<P extends z.ZodType, Q extends z.ZodType, B extends 
     const result = handler(req, input, reply);
     return isThenable(result) ? result.then((r) => finish(req, reply, r)) : finish(req, reply, result);
   };
+  const answer = (req: FastifyRequest, reply: FastifyReply): PromiseLike<FastifyReply | undefined> | FastifyReply | undefined => {
+    const principal = spec.auth === 'public' ? (null as unknown as Principal) : ctx.authenticate(req, spec.auth);
+    const pending = spec.preHandler?.(req);
+    if (isThenable(pending)) return pending.then(() => respond(req, reply, principal));
+    return respond(req, reply, principal);
+  };
+  const oneCheck = ctx.withOneChangeCheck;
   ctx.app.route({
     method: spec.method,
     url: spec.url,
@@ -131,12 +138,8 @@ export function defineRoute<P extends z.ZodType, Q extends z.ZodType, B extends 
         ]
       : [],
     // Synchronous unless the pre-handler or the route handler returns a promise: a list answered from the cache is
-    // checked, serialised and sent in the same turn, without a promise per step.
-    handler: (req, reply) => {
-      const principal = spec.auth === 'public' ? (null as unknown as Principal) : ctx.authenticate(req, spec.auth);
-      const pending = spec.preHandler?.(req);
-      if (isThenable(pending)) return pending.then(() => respond(req, reply, principal));
-      return respond(req, reply, principal);
-    },
+    // checked, serialised and sent in the same turn, without a promise per step. That synchronous part looks for
+    // outside commits once for all the store's caches it reads (the token, then the page).
+    handler: (req, reply) => (oneCheck ? oneCheck(() => answer(req, reply)) : answer(req, reply)),
   });
 }
