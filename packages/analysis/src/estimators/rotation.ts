@@ -154,13 +154,14 @@ export function estimateRotation(
   if (x[0]! * prior[0]! + x[1]! * prior[1]! + x[2]! * prior[2]! + x[3]! * prior[3]! < 0) for (let i = 0; i < 4; i++) x[i] = -x[i]!;
   const db = new Float64Array(3);
   const res = new Float64Array(3 * comp.n);
+  const am = odometryMatrices(comp);
   let H: Float64Array = new Float64Array(36);
   let sigma = 0;
   for (let it = 0; it < (options.iterations ?? 8); it++) {
     residuals(comp, x, db, res);
     sigma = robustSigma(res, comp.n);
     const g = new Float64Array(6);
-    H = normalEquations(comp, x, res, sigma, g);
+    H = normalEquations(comp, am, x, res, sigma, g);
     const sol = solveSpd(H, g, 6);
     if (sol === null) return { ok: false, reason: 'unobservable: gyro bias and extrinsic rotation not separable on this motion' };
     const d = sol.x;
@@ -174,7 +175,7 @@ export function estimateRotation(
   }
   residuals(comp, x, db, res);
   sigma = robustSigma(res, comp.n);
-  H = normalEquations(comp, x, res, sigma, new Float64Array(6));
+  H = normalEquations(comp, am, x, res, sigma, new Float64Array(6));
   const inv = solveSpd(H, new Float64Array(6), 6);
   if (inv === null) return { ok: false, reason: 'unobservable: gyro bias and extrinsic rotation not separable on this motion' };
   const cov = inv.inv.map((v) => v * sigma * sigma);
@@ -201,22 +202,23 @@ const rv = new Float64Array(3);
 /** r_k = Log(Exp(J_k δb)ᵀ C_kᵀ X A_k Xᵀ), rad, stride 3. */
 function residuals(comp: Composite, x: Float64Array, db: Float64Array, out: Float64Array): void {
   const xc = quat.conjugate(quat.create(), x);
+  const J = comp.j, c = comp.c, a = comp.a;
   for (let k = 0; k < comp.n; k++) {
-    const J = comp.j;
-    const o = 9 * k;
+    const o = 9 * k, q = 4 * k;
     quat.fromRotationVector(qe,
       -(J[o]! * db[0]! + J[o + 1]! * db[1]! + J[o + 2]! * db[2]!),
       -(J[o + 3]! * db[0]! + J[o + 4]! * db[1]! + J[o + 5]! * db[2]!),
       -(J[o + 6]! * db[0]! + J[o + 7]! * db[1]! + J[o + 8]! * db[2]!));
-    qc.set(comp.c.subarray(4 * k, 4 * k + 4));
-    quat.conjugate(qc, qc);
-    qa.set(comp.a.subarray(4 * k, 4 * k + 4));
+    quat.set(qc, c[q]!, -c[q + 1]!, -c[q + 2]!, -c[q + 3]!);
+    quat.set(qa, a[q]!, a[q + 1]!, a[q + 2]!, a[q + 3]!);
     quat.multiply(qb, x, qa);
     quat.multiply(qb, qb, xc);
     quat.multiply(qb, qc, qb);
     quat.multiply(qb, qe, qb);
     quat.toRotationVector(rv, qb);
-    out.set(rv, 3 * k);
+    out[3 * k] = rv[0]!;
+    out[3 * k + 1] = rv[1]!;
+    out[3 * k + 2] = rv[2]!;
   }
 }
 
@@ -227,30 +229,48 @@ function robustSigma(res: Float64Array, n: number): number {
   return Math.max(medianOf(mags) / 1.538, 1e-9);
 }
 
-/** Accumulates JᵀWJ (returned) and −JᵀWr (into g) with Huber weights. */
-function normalEquations(comp: Composite, x: Float64Array, res: Float64Array, sigma: number, g: Float64Array): Float64Array {
+/** Odometry relative rotations A_k as row-major matrices, stride 9 (fixed across the iterations). */
+function odometryMatrices(comp: Composite): Float64Array {
+  const out = new Float64Array(9 * comp.n), m = new Float64Array(9);
+  for (let k = 0; k < comp.n; k++) {
+    quat.set(qa, comp.a[4 * k]!, comp.a[4 * k + 1]!, comp.a[4 * k + 2]!, comp.a[4 * k + 3]!);
+    out.set(quat.toMat3(m, qa), 9 * k);
+  }
+  return out;
+}
+
+/**
+ * Accumulates JᵀWJ (returned) and −JᵀWr (into g) with Huber weights. `am` = odometryMatrices(comp). Row block k is
+ * 3×6: [X(A_kᵀ − I) | −J_k]; only the upper triangle of JᵀWJ is summed (the lower one is its mirror).
+ */
+function normalEquations(comp: Composite, am: Float64Array, x: Float64Array, res: Float64Array, sigma: number, g: Float64Array): Float64Array {
   const H = new Float64Array(36);
-  const X = quat.toMat3(new Float64Array(9), x), A = new Float64Array(9), Jr = new Float64Array(18);
+  const X = quat.toMat3(new Float64Array(9), x), Jr = new Float64Array(18);
   const kH = 1.345 * sigma * Math.sqrt(3);
   for (let k = 0; k < comp.n; k++) {
-    qa.set(comp.a.subarray(4 * k, 4 * k + 4));
-    quat.toMat3(A, qa);
-    // Row block 3×6: [X(Aᵀ − I) | −J_k].
+    const o = 9 * k;
     for (let r = 0; r < 3; r++) {
+      const x0 = X[r * 3]!, x1 = X[r * 3 + 1]!, x2 = X[r * 3 + 2]!;
       for (let c = 0; c < 3; c++) {
+        // Σ_m X[r][m]·(A[c][m] − δ_cm), summed in m order
         let v = 0;
-        for (let m = 0; m < 3; m++) v += X[r * 3 + m]! * (A[c * 3 + m]! - (m === c ? 1 : 0));
+        v += x0 * (am[o + c * 3]! - (c === 0 ? 1 : 0));
+        v += x1 * (am[o + c * 3 + 1]! - (c === 1 ? 1 : 0));
+        v += x2 * (am[o + c * 3 + 2]! - (c === 2 ? 1 : 0));
         Jr[r * 6 + c] = v;
-        Jr[r * 6 + 3 + c] = -comp.j[9 * k + r * 3 + c]!;
+        Jr[r * 6 + 3 + c] = -comp.j[o + r * 3 + c]!;
       }
     }
-    const mag = Math.hypot(res[3 * k]!, res[3 * k + 1]!, res[3 * k + 2]!);
+    const r0 = res[3 * k]!, r1 = res[3 * k + 1]!, r2 = res[3 * k + 2]!;
+    const mag = Math.hypot(r0, r1, r2);
     const w = mag <= kH ? 1 : kH / mag;
     for (let a = 0; a < 6; a++) {
-      for (let b = 0; b < 6; b++) H[a * 6 + b] = H[a * 6 + b]! + w * (Jr[a]! * Jr[b]! + Jr[6 + a]! * Jr[6 + b]! + Jr[12 + a]! * Jr[12 + b]!);
-      g[a] = g[a]! - w * (Jr[a]! * res[3 * k]! + Jr[6 + a]! * res[3 * k + 1]! + Jr[12 + a]! * res[3 * k + 2]!);
+      const ja0 = Jr[a]!, ja1 = Jr[6 + a]!, ja2 = Jr[12 + a]!;
+      for (let b = a; b < 6; b++) H[a * 6 + b] = H[a * 6 + b]! + w * (ja0 * Jr[b]! + ja1 * Jr[6 + b]! + ja2 * Jr[12 + b]!);
+      g[a] = g[a]! - w * (ja0 * r0 + ja1 * r1 + ja2 * r2);
     }
   }
+  for (let a = 0; a < 6; a++) for (let b = 0; b < a; b++) H[a * 6 + b] = H[b * 6 + a]!;
   return H;
 }
 
