@@ -189,24 +189,33 @@ export function createBlockCholesky(n: number, b: number, pairs: Int32Array, sym
     for (let k = 0; k < n; k++) for (let r = 0; r < b; r++) y[k * b + r] = rhs[perm[k]! * b + r]!;
     // Forward: L y = P rhs, one panel at a time (its diagonal block, then its rows below).
     for (let J = 0; J < ns; J++) {
-      const W = widthOf(J), y0 = snStart[J]! * b, base = valStart[J]!, rs0 = snRowStart[J]!, H = (snRowStart[J + 1]! - rs0) * b;
+      const f = snStart[J]!, w = snStart[J + 1]! - f, W = w * b, y0 = f * b, base = valStart[J]!;
       for (let i = 0; i < W; i++) {
+        const row = base + i * W;
         let s = y[y0 + i]!;
-        for (let k = 0; k < i; k++) s -= val[base + i * W + k]! * y[y0 + k]!;
-        y[y0 + i] = s / val[base + i * W + i]!;
+        for (let k = 0; k < i; k++) s -= val[row + k]! * y[y0 + k]!;
+        y[y0 + i] = s / val[row + i]!;
       }
-      for (let i = W; i < H; i++) {
-        let s = 0;
-        for (let k = 0; k < W; k++) s += val[base + i * W + k]! * y[y0 + k]!;
-        y[snRows[rs0 + ((i / b) | 0)]! * b + (i % b)]! -= s;
+      let row = base + W * W;
+      for (let q = snRowStart[J]! + w; q < snRowStart[J + 1]!; q++) {
+        const yi = snRows[q]! * b;
+        for (let r = 0; r < b; r++, row += W) {
+          let s = 0;
+          for (let k = 0; k < W; k++) s += val[row + k]! * y[y0 + k]!;
+          y[yi + r]! -= s;
+        }
       }
     }
     // Backward: Lᵀ x = y.
     for (let J = ns - 1; J >= 0; J--) {
-      const W = widthOf(J), y0 = snStart[J]! * b, base = valStart[J]!, rs0 = snRowStart[J]!, H = (snRowStart[J + 1]! - rs0) * b;
-      for (let i = W; i < H; i++) {
-        const yi = y[snRows[rs0 + ((i / b) | 0)]! * b + (i % b)]!;
-        for (let k = 0; k < W; k++) y[y0 + k]! -= val[base + i * W + k]! * yi;
+      const f = snStart[J]!, w = snStart[J + 1]! - f, W = w * b, y0 = f * b, base = valStart[J]!;
+      let row = base + W * W;
+      for (let q = snRowStart[J]! + w; q < snRowStart[J + 1]!; q++) {
+        const yi = snRows[q]! * b;
+        for (let r = 0; r < b; r++, row += W) {
+          const v = y[yi + r]!;
+          for (let k = 0; k < W; k++) y[y0 + k]! -= val[row + k]! * v;
+        }
       }
       for (let i = W - 1; i >= 0; i--) {
         let s = y[y0 + i]!;
