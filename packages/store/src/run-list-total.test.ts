@@ -50,4 +50,17 @@ describe('run list total after writes', () => {
     expect(after.items[0]?.status).toBe('queued');
     expect(page.items[0]?.status).toBe('received');
   });
+
+  it('answers a frozen query object (kept by the API per query string) like an equal fresh one, pages and writes included', () => {
+    const a = createStore(open());
+    for (let n = 0; n < 5; n++) a.runs.create(runInput(n, { robot_id: 'kestrel-01' }));
+    const frozen = Object.freeze(RunListQuery.parse({ robot_id: 'kestrel-01', limit: 2 }));
+    const first = a.runs.list(frozen);
+    expect(first).toEqual(a.runs.list(RunListQuery.parse({ robot_id: 'kestrel-01', limit: 2 })));
+    const next = Object.freeze({ ...frozen, cursor: first.next_cursor ?? '' });
+    expect(a.runs.list(next).items.map((r) => r.id)).toEqual(a.runs.list({ ...next }).items.map((r) => r.id));
+    expect(a.runs.list(next).items[0]?.id).not.toBe(first.items[0]?.id);
+    a.runs.create(runInput(5, { robot_id: 'kestrel-01' }));
+    expect(a.runs.list(frozen).total).toBe(6);
+  });
 });

@@ -136,12 +136,24 @@ export function createRunRepository(db: Db): RunRepository {
     return Object.freeze({ items: Object.freeze(items.map(toRunSummary)) as RunSummary[], next_cursor: next, total });
   };
 
+  // A frozen query object (the API hands out one per distinct query string) keeps its key.
+  const queryKeys = new WeakMap<RunListQuery, string>();
+  const keyOf = (query: RunListQuery): string => {
+    if (!Object.isFrozen(query)) return listQueryKey(query);
+    let key = queryKeys.get(query);
+    if (key === undefined) {
+      key = listQueryKey(query);
+      queryKeys.set(query, key);
+    }
+    return key;
+  };
+
   /** The returned page may be shared with later identical calls until the database changes: do not modify it. */
   const list = (query: RunListQuery): RunListPage => {
     sameDatabase();
     // keyed by the query itself: a cached answer skips building the SQL and decoding the cursor (a cursor that fails
     // to decode throws below and is never cached, so a cached key always names a valid one)
-    const key = listQueryKey(query);
+    const key = keyOf(query);
     let result = pages.get(key);
     if (result === undefined) {
       const page = buildListSql(query, RUN_COLUMNS);
