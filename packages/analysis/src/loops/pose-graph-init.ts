@@ -1,6 +1,5 @@
 import { nearestRotation, type Mat3 } from '@plumbline/geometry';
 import { patternCholesky, type PoseGraph, type PoseGraphSolver } from './pose-graph.ts';
-import { wrapAngle } from './pose-graph-edges.ts';
 
 export type InitResult = { ok: true } | { ok: false; reason: string };
 
@@ -18,28 +17,29 @@ interface Laplacian {
 }
 
 /**
- * Weighted Laplacian of the active edges for b×b blocks: diagonal blocks Σ w·I (with the measured rotation M of the
- * edge on the `from` side: Σ w·M·Mᵀ), off-diagonal blocks −w·M (oriented to the stored pair), a stiff prior on the
- * anchor and a tiny ridge everywhere. With b = 1 and M = 1 it is the scalar graph Laplacian.
+ * Weighted connection Laplacian of the active edges for b×b blocks, from Σ w_e·‖x_j − x_i·M_e‖²: diagonal blocks
+ * Σ w·I on the `to` side and Σ w·M·Mᵀ on the `from` side, off-diagonal blocks −w·M (oriented to the stored pair),
+ * a stiff prior on the anchor and a tiny ridge everywhere. `M` null means M_e = I: the scalar graph Laplacian.
  */
 function laplacian(g: PoseGraph, sv: PoseGraphSolver, b: number, w: Float64Array, anchor: number, M: Float64Array | null): Laplacian {
   const bb = b * b, diag = new Float64Array(g.n * bb), off = new Float64Array((sv.pairs.length / 2) * bb);
+  const identity = new Float64Array(bb);
+  for (let r = 0; r < b; r++) identity[r * (b + 1)] = 1;
+  const src = M ?? identity;
   let wMax = 0;
   for (let e = 0; e < g.m; e++) {
     if (!g.active[e]) continue;
-    const we = w[e]!, i = g.from[e]!, j = g.to[e]!, po = sv.pairOf[e]! * bb, fl = sv.flipped[e]!;
+    const we = w[e]!, i = g.from[e]!, j = g.to[e]!, po = sv.pairOf[e]! * bb, fl = sv.flipped[e]!, mo = M ? e * bb : 0;
     wMax = Math.max(wMax, we);
     for (let r = 0; r < b; r++) {
-      diag[j * bb + r * b + r]! += we;
+      diag[j * bb + r * (b + 1)]! += we;
       for (let c = 0; c < b; c++) {
-        const mrc = M ? M[e * bb + r * b + c]! : 1;
-        let mmT = M ? 0 : 1;
-        if (M) for (let k = 0; k < b; k++) mmT += M[e * bb + r * b + k]! * M[e * bb + c * b + k]!;
-        if (M || r === c) diag[i * bb + r * b + c]! += we * mmT;
-        if (!M && r !== c) continue;
+        let mmT = 0;
+        for (let k = 0; k < b; k++) mmT += src[mo + r * b + k]! * src[mo + c * b + k]!;
+        diag[i * bb + r * b + c]! += we * mmT;
         // Block H[i, j] = −w·M; the stored pair (lo, hi) holds H[lo, hi], so a flipped edge stores the transpose.
-        if (fl) off[po + c * b + r]! -= we * mrc;
-        else off[po + r * b + c]! -= we * mrc;
+        if (fl) off[po + c * b + r]! -= we * src[mo + r * b + c]!;
+        else off[po + r * b + c]! -= we * src[mo + r * b + c]!;
       }
     }
   }
