@@ -133,7 +133,7 @@ function initPlanar(g: PoseGraph, sv: PoseGraphSolver, anchor: number): InitResu
   const f = chordalRotations(g, sv, 2, X, M, anchor);
   if (!f.ok) return f;
   const next = new Float64Array(g.s.length);
-  // Both rows carry the heading; their sum (cos θ, −sin θ) + (cos θ, −sin θ)-from-row-2 averages them.
+  // Both rows, (cos θ, −sin θ) and (sin θ, cos θ), carry the heading; summing sines and cosines averages them.
   for (let k = 0; k < g.n; k++) next[k * 3 + 2] = Math.atan2(X[k * 4 + 2]! - X[k * 4 + 1]!, X[k * 4]! + X[k * 4 + 3]!);
   const p = solvePositions(g, sv, g.s, 3, 2, anchor, (e, v) => {
     const th = next[g.from[e]! * 3 + 2]!, c = Math.cos(th), s = Math.sin(th), mx = g.measP[e * 3]!, my = g.measP[e * 3 + 1]!;
