@@ -64,16 +64,19 @@ export function estimateNoiseDensities(
   const ms: number[] = [];
   for (let m = 2; m * tau0 <= tauMax; m = Math.max(m + 1, Math.round(m * 1.4))) ms.push(m);
   if (ms.length < 3) return none('insufficient: stationary intervals too short for an Allan deviation');
+  // Sample ranges of the intervals, found once for all six axes.
+  const ranges: [number, number][] = [];
+  let i = 0;
+  for (const s of usable) {
+    while (i < imu.n && imu.t[i]! < s.tStart) i++;
+    const i0 = i;
+    while (i < imu.n && imu.t[i]! <= s.tEnd) i++;
+    ranges.push([i0, i]);
+  }
   const cols = [imu.gx, imu.gy, imu.gz, imu.ax, imu.ay, imu.az];
   const adev = cols.map((col) => {
     const sums = new Float64Array(ms.length), counts = new Float64Array(ms.length);
-    let i = 0;
-    for (const s of usable) {
-      while (i < imu.n && imu.t[i]! < s.tStart) i++;
-      const i0 = i;
-      while (i < imu.n && imu.t[i]! <= s.tEnd) i++;
-      allanSums(col, i0, i, tau0, ms, sums, counts);
-    }
+    for (const [i0, i1] of ranges) allanSums(col, i0, i1, tau0, ms, sums, counts);
     return Float64Array.from(sums, (v, j) => Math.sqrt(v / counts[j]!));
   });
   const tau = Float64Array.from(ms, (m) => m * tau0);

@@ -25,8 +25,14 @@ export interface StreamTiming {
  * Method: direct count (common practice); a gap is a spacing above 3 nominal periods (project convention).
  */
 export function checkTiming(t: Float64Array, n: number, nominalRateHz: number | null, values: readonly Float64Array[]): StreamTiming {
-  let duplicates = 0, backwards = 0, nonFinite = 0;
+  let nonFinite = 0;
   for (const col of values) for (let i = 0; i < n; i++) if (!Number.isFinite(col[i]!)) nonFinite++;
+  return timingOf(t, n, nominalRateHz, nonFinite);
+}
+
+/** checkTiming with the non-finite count of the value columns already known. */
+function timingOf(t: Float64Array, n: number, nominalRateHz: number | null, nonFiniteValues: number): StreamTiming {
+  let duplicates = 0, backwards = 0, nonFinite = nonFiniteValues;
   for (let i = 0; i < n; i++) if (!Number.isFinite(t[i]!)) nonFinite++;
   if (n < 2) {
     return { samples: n, nominalRateHz, measuredRateHz: null, tFirst: n ? t[0]! : null, tLast: n ? t[n - 1]! : null, gaps: [], duplicateTimestamps: 0, nonMonotonicTimestamps: 0, nonFiniteValues: nonFinite };
@@ -71,36 +77,55 @@ const AXES = ['gx', 'gy', 'gz', 'ax', 'ay', 'az'] as const;
  */
 export function findSaturation(imu: ImuColumns, gyroRangeRadS: number | null, accelRangeMS2: number | null): SaturationRun[] {
   const out: SaturationRun[] = [];
-  for (const axis of AXES) {
-    const col = imu[axis];
-    const range = axis[0] === 'g' ? gyroRangeRadS : accelRangeMS2;
-    let limit: number, minRun: number, ceiling = Number.POSITIVE_INFINITY;
-    if (range !== null) {
-      limit = range * 0.999;
-      ceiling = range * 1.01;
-      minRun = 1;
-    } else {
-      limit = 0;
-      for (let i = 0; i < imu.n; i++) {
-        const a = Math.abs(col[i]!);
-        if (a > limit) limit = a;
-      }
-      minRun = 3;
-      if (!(limit > 0)) continue;
+  for (const axis of AXES) axisSaturation(imu, axis, axis[0] === 'g' ? gyroRangeRadS : accelRangeMS2, out);
+  return out.sort((a, b) => a.tStart - b.tStart);
+}
+
+/**
+ * checkTiming of the IMU stream and findSaturation in one read of each IMU column (the non-finite values are
+ * counted during the saturation scan); the same results as the two calls.
+ */
+export function checkImuStream(
+  imu: ImuColumns, nominalRateHz: number | null, gyroRangeRadS: number | null, accelRangeMS2: number | null,
+): { timing: StreamTiming; saturation: SaturationRun[] } {
+  const saturation: SaturationRun[] = [];
+  let nonFinite = 0;
+  for (const axis of AXES) nonFinite += axisSaturation(imu, axis, axis[0] === 'g' ? gyroRangeRadS : accelRangeMS2, saturation);
+  return { timing: timingOf(imu.t, imu.n, nominalRateHz, nonFinite), saturation: saturation.sort((a, b) => a.tStart - b.tStart) };
+}
+
+/** Saturation runs of one axis (see findSaturation) appended to `out`; returns the axis's count of non-finite values. */
+function axisSaturation(imu: ImuColumns, axis: SaturationRun['axis'], range: number | null, out: SaturationRun[]): number {
+  const col = imu[axis], n = imu.n;
+  let limit: number, minRun: number, ceiling = Number.POSITIVE_INFINITY, nonFinite = 0;
+  if (range !== null) {
+    limit = range * 0.999;
+    ceiling = range * 1.01;
+    minRun = 1;
+  } else {
+    limit = 0;
+    for (let i = 0; i < n; i++) {
+      const v = col[i]!, a = Math.abs(v);
+      if (!Number.isFinite(v)) nonFinite++;
+      if (a > limit) limit = a;
     }
-    const exact = range === null;
-    let start = -1;
-    for (let i = 0; i <= imu.n; i++) {
-      const a = i < imu.n ? Math.abs(col[i]!) : 0;
-      const pinned = i < imu.n && (exact ? a === limit : a >= limit && a <= ceiling);
-      if (pinned && start < 0) start = i;
-      else if (!pinned && start >= 0) {
-        if (i - start >= minRun) out.push({ axis, tStart: imu.t[start]!, tEnd: imu.t[i - 1]!, samples: i - start });
-        start = -1;
-      }
+    minRun = 3;
+    if (!(limit > 0)) return nonFinite;
+  }
+  const exact = range === null, t = imu.t;
+  let start = -1;
+  for (let i = 0; i < n; i++) {
+    const v = col[i]!, a = Math.abs(v);
+    if (!exact && !Number.isFinite(v)) nonFinite++;
+    if (exact ? a === limit : a >= limit && a <= ceiling) {
+      if (start < 0) start = i;
+    } else if (start >= 0) {
+      if (i - start >= minRun) out.push({ axis, tStart: t[start]!, tEnd: t[i - 1]!, samples: i - start });
+      start = -1;
     }
   }
-  return out.sort((a, b) => a.tStart - b.tStart);
+  if (start >= 0 && n - start >= minRun) out.push({ axis, tStart: t[start]!, tEnd: t[n - 1]!, samples: n - start });
+  return nonFinite;
 }
 
 export interface StationaryOptions {

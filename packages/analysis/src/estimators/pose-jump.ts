@@ -43,29 +43,39 @@ function localFit(rows: AlignmentRows, ba: Float64Array, halfS: number): { s: Fl
   const n = rows.n, K = 9, acc = new Float64Array(K * (n + 1)), w = new Float64Array(3), zero = new Float64Array(3);
   for (let r = 0; r < n; r++) {
     rowTarget(rows, r, zero, ba, w);
-    const l0 = rows.lam[3 * r]!, l1 = rows.lam[3 * r + 1]!, l2 = rows.lam[3 * r + 2]!, b = rows.beta[r]!;
-    const add = [l0 * l0 + l1 * l1 + l2 * l2, l0 * w[0]! + l1 * w[1]! + l2 * w[2]!, b * b, b * l0, b * l1, b * l2, b * w[0]!, b * w[1]!, b * w[2]!];
-    for (let k = 0; k < K; k++) acc[K * (r + 1) + k] = acc[K * r + k]! + add[k]!;
+    const l0 = rows.lam[3 * r]!, l1 = rows.lam[3 * r + 1]!, l2 = rows.lam[3 * r + 2]!, b = rows.beta[r]!, o = K * r;
+    // Running sums of λλ, λ·w, β², βλ (3), βw (3).
+    acc[o + 9] = acc[o]! + (l0 * l0 + l1 * l1 + l2 * l2);
+    acc[o + 10] = acc[o + 1]! + (l0 * w[0]! + l1 * w[1]! + l2 * w[2]!);
+    acc[o + 11] = acc[o + 2]! + b * b;
+    acc[o + 12] = acc[o + 3]! + b * l0;
+    acc[o + 13] = acc[o + 4]! + b * l1;
+    acc[o + 14] = acc[o + 5]! + b * l2;
+    acc[o + 15] = acc[o + 6]! + b * w[0]!;
+    acc[o + 16] = acc[o + 7]! + b * w[1]!;
+    acc[o + 17] = acc[o + 8]! + b * w[2]!;
   }
-  const s = new Float64Array(n), g = new Float64Array(3 * n), d = new Float64Array(K);
+  const s = new Float64Array(n), g = new Float64Array(3 * n);
   let lo = 0, hi = 0;
   for (let r = 0; r < n; r++) {
     while (rows.t[lo]! < rows.t[r]! - halfS) lo++;
     while (hi < n && rows.t[hi]! <= rows.t[r]! + halfS) hi++;
-    for (let k = 0; k < K; k++) d[k] = acc[K * hi + k]! - acc[K * lo + k]!;
-    const [ll, lw, bb, bl0, bl1, bl2, bw0, bw1, bw2] = d as unknown as number[];
-    if (!(bb! > 0)) {
+    const h = K * hi, l = K * lo;
+    const ll = acc[h]! - acc[l]!, lw = acc[h + 1]! - acc[l + 1]!, bb = acc[h + 2]! - acc[l + 2]!;
+    const bl0 = acc[h + 3]! - acc[l + 3]!, bl1 = acc[h + 4]! - acc[l + 4]!, bl2 = acc[h + 5]! - acc[l + 5]!;
+    const bw0 = acc[h + 6]! - acc[l + 6]!, bw1 = acc[h + 7]! - acc[l + 7]!, bw2 = acc[h + 8]! - acc[l + 8]!;
+    if (!(bb > 0)) {
       s[r] = Number.NaN;
       continue;
     }
     // Schur complement of the gravity block: (Σλλ − |Σβλ|²/Σβ²)·s = Σλw − Σβλ·Σβw/Σβ².
-    const den = ll! - (bl0! * bl0! + bl1! * bl1! + bl2! * bl2!) / bb!;
-    const num = lw! - (bl0! * bw0! + bl1! * bw1! + bl2! * bw2!) / bb!;
-    const sr = den > 1e-12 * Math.max(ll!, 1e-300) ? num / den : 0;
+    const den = ll - (bl0 * bl0 + bl1 * bl1 + bl2 * bl2) / bb;
+    const num = lw - (bl0 * bw0 + bl1 * bw1 + bl2 * bw2) / bb;
+    const sr = den > 1e-12 * Math.max(ll, 1e-300) ? num / den : 0;
     s[r] = den > 0 ? sr : Number.NaN;
-    g[3 * r] = (bw0! - sr * bl0!) / bb!;
-    g[3 * r + 1] = (bw1! - sr * bl1!) / bb!;
-    g[3 * r + 2] = (bw2! - sr * bl2!) / bb!;
+    g[3 * r] = (bw0 - sr * bl0) / bb;
+    g[3 * r + 1] = (bw1 - sr * bl1) / bb;
+    g[3 * r + 2] = (bw2 - sr * bl2) / bb;
   }
   return { s, g };
 }
