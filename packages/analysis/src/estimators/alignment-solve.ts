@@ -15,6 +15,11 @@ export interface SolveSpec {
   /** Starting gravity direction (unit vector in the odometry world). */
   g0: Float64Array;
   s0: number;
+  /**
+   * Only the scale is wanted (e.g. a starting value): skip the covariance and the condition number, which are then NaN.
+   * The iterations, the scale and the singular-matrix outcome are the same.
+   */
+  scaleOnly?: boolean;
 }
 
 export interface SolveResult {
@@ -50,9 +55,15 @@ function tangentBasis(d: Float64Array, b1: Float64Array, b2: Float64Array): void
   b2[2] = d[0]! * b1[1]! - d[1]! * b1[0]!;
 }
 
-/** M_r·ba (3-vector) of rows r0..r1−1, stride 3. */
+const scratch = {
+  b1: new Float64Array(3), b2: new Float64Array(3), res: new Float64Array(3), j: new Float64Array(18), h: new Float64Array(36),
+  grad: new Float64Array(6), x: new Float64Array(6), l: new Float64Array(36), mb: new Float64Array(0),
+};
+
+/** M_r·ba (3-vector) of rows r0..r1−1, stride 3, into the shared scratch. */
 function biasTerms(rows: AlignmentRows, r0: number, r1: number, ba: Float64Array): Float64Array {
-  const out = new Float64Array(3 * (r1 - r0));
+  if (scratch.mb.length < 3 * (r1 - r0)) scratch.mb = new Float64Array(Math.max(3 * (r1 - r0), 2 * scratch.mb.length));
+  const out = scratch.mb;
   for (let r = r0; r < r1; r++) {
     for (let i = 0; i < 3; i++) {
       let v = 0;
@@ -116,8 +127,10 @@ export function solveAlignment(rows: AlignmentRows, r0: number, r1: number, spec
   const d = Float64Array.from(spec.g0);
   let s = spec.s0;
   const ba = freeB ? new Float64Array(3) : Float64Array.from(spec.bias as Float64Array);
-  const b1 = new Float64Array(3), b2 = new Float64Array(3), J = new Float64Array(3 * np), res = new Float64Array(3);
-  const H = new Float64Array(np * np), grad = new Float64Array(np), x = new Float64Array(np), L = new Float64Array(np * np);
+  // Scratch shared by the calls (one solve at a time; nothing of it is returned).
+  const { b1, b2, res } = scratch;
+  const J = scratch.j.subarray(0, 3 * np), H = scratch.h.subarray(0, np * np), grad = scratch.grad.subarray(0, np);
+  const x = scratch.x.subarray(0, np), L = scratch.l.subarray(0, np * np);
   let inv: Float64Array | null = null, rms = 0, huber = Number.POSITIVE_INFINITY;
   const G = spec.gravityMS2;
   // M_r·ba of every row once (the bias is fixed during the iterations when it is not free).
@@ -157,6 +170,10 @@ export function solveAlignment(rows: AlignmentRows, r0: number, r1: number, spec
     huber = 1.345 * Math.sqrt(3) * rms;
     // The inverse (covariance) is needed from the last pass only.
     if (it === iterations) {
+      if (spec.scaleOnly === true) {
+        if (!solveSpdInto(x, L, H, grad, np)) return null;
+        break;
+      }
       const sol = solveSpd(H, grad, np);
       if (sol === null) return null;
       inv = sol.inv;
@@ -173,6 +190,13 @@ export function solveAlignment(rows: AlignmentRows, r0: number, r1: number, spec
     let step = Math.abs(u0) + Math.abs(u1) + (freeS ? Math.abs(x[0]!) : 0);
     if (freeB) step += Math.abs(x[iB]!) + Math.abs(x[iB + 1]!) + Math.abs(x[iB + 2]!);
     if (step < 1e-7) it = iterations - 1;
+  }
+  if (spec.scaleOnly === true) {
+    const nan = Number.NaN;
+    return {
+      s, sSigma: nan, g: Float64Array.of(G * d[0]!, G * d[1]!, G * d[2]!), gCov: Float64Array.of(nan, nan, nan, nan),
+      ba, baSigma: Float64Array.of(nan, nan, nan), rms, condition: nan, rows: r1 - r0,
+    };
   }
   const dof = Math.max(1, 3 * (r1 - r0) - np);
   const s2 = (rms * rms * 3 * (r1 - r0)) / dof;

@@ -99,7 +99,7 @@ export function estimateGravityScale(rows: AlignmentRows, worldGravityAligned: b
   const zero = new Float64Array(3);
   const down = Float64Array.of(0, 0, -1);
   const inflate = Math.sqrt(rows.overlap);
-  const perWindow = (ba: Float64Array): (SolveResult | null)[] => {
+  const perWindow = (ba: Float64Array, scaleOnly: boolean): (SolveResult | null)[] => {
     const out: (SolveResult | null)[] = [];
     for (let w = 0; w < nw; w++) {
       const r0 = win.r0[w]!, r1 = win.r1[w]!;
@@ -111,7 +111,7 @@ export function estimateGravityScale(rows: AlignmentRows, worldGravityAligned: b
       const gn = lin ? Math.hypot(lin.g[0]!, lin.g[1]!, lin.g[2]!) : 0;
       const g0 = lin && gn > 1 ? Float64Array.of(lin.g[0]! / gn, lin.g[1]! / gn, lin.g[2]! / gn) : down;
       const s0 = lin && lin.s > 0 ? lin.s : 1;
-      const r = solveAlignment(rows, r0, r1, { scale: 'free', bias: ba, gravityMS2: G, g0, s0 });
+      const r = solveAlignment(rows, r0, r1, { scale: 'free', bias: ba, gravityMS2: G, g0, s0, scaleOnly });
       // Overlapping triplets share keyframes: inflate the LS sigmas by √(rows per independent triplet).
       if (r !== null) {
         r.sSigma *= inflate;
@@ -131,14 +131,14 @@ export function estimateGravityScale(rows: AlignmentRows, worldGravityAligned: b
     if (!(r.s > 0) || r.sSigma / r.s > maxSig) return `unobservable: scale sigma ${(r.sSigma / Math.abs(r.s) * 100).toFixed(1)} % above ${maxSig * 100} %`;
     return '';
   };
-  // Pass 1: scales with zero bias, to hold scale fixed while the run-level bias is estimated.
-  const first = perWindow(zero);
+  // Pass 1: scales with zero bias, to hold scale fixed while the run-level bias is estimated (only the scales are read).
+  const first = perWindow(zero, true);
   const s0 = Float64Array.from(first, (r) => (r !== null ? r.s : Number.NaN));
   // Pass 1 runs without the bias, whose error inflates σ_s: decide on excitation alone here.
   const anyObservable = first.some((r, w) => r !== null && metricStd(w, r) >= minStd);
   const joint = runLevel(rows, win, s0, G, options.estimateBias ?? true, anyObservable);
   const ba = joint?.bias ?? zero;
-  const second = perWindow(ba);
+  const second = perWindow(ba, false);
   const scale = emptySeries('', nw), tilt = emptySeries('deg', nw), residual = emptySeries('m/s', nw);
   const condition = new Float64Array(nw).fill(Number.NaN);
   for (let w = 0; w < nw; w++) {
