@@ -15,7 +15,7 @@
  */
 import type { AlignmentRows } from './alignment-rows.ts';
 import { theilSen } from '@plumbline/geometry';
-import { medianOf, solveSpd } from './small-math.ts';
+import { medianOf, solveSpd, solveSpdInto } from './small-math.ts';
 import { noScalar, scalar, type ScalarResult, type WindowSeries } from './types.ts';
 
 export interface ScaleStep {
@@ -295,8 +295,9 @@ function locateStep(rows: AlignmentRows, g: Float64Array, ba: Float64Array, t0: 
   }
   const sse = new Float64Array(n).fill(Number.POSITIVE_INFINITY);
   const kappa = new Float64Array(n);
+  const common = stepModelSums(rows, r0, n, C, t0, before);
   for (let m = 2; m < n - 1; m++) {
-    const fit = fitStepModel(rows, r0, n, C, m, t0, before, true);
+    const fit = fitStepModel(common, rows, r0, n, C, m, t0, before);
     if (fit !== null) [sse[m], kappa[m]] = fit;
   }
   let best = -1;
@@ -313,34 +314,84 @@ function locateStep(rows: AlignmentRows, g: Float64Array, ba: Float64Array, t0: 
   return { t: mid(best), sigmaS: Math.max(0.5 * (mid(hi) - mid(lo)), rows.dtBc[r0 + best]! / Math.sqrt(12)), before, after: s1, stepPct: (s1 / before - 1) * 100 };
 }
 
-/** Least squares of C_k = c0 + c1·(t_k − t0) + (κ0 + κ·[k ≥ m])·s0·v̄_k over the 3-vector rows; returns [SSE, κ/(1+κ0)]. */
-function fitStepModel(
-  rows: AlignmentRows, r0: number, n: number, C: Float64Array, m: number, t0: number, s0: number, withStep: boolean,
-): [number, number] | null {
-  const H = new Float64Array(64), b = new Float64Array(8), J = new Float64Array(8);
-  if (!withStep) H[54] = 1; // κ pinned to 0 (unit diagonal, zero right-hand side)
+interface StepSums {
+  /** Normal equations without the step column (index 6), and Σ C². */
+  H: Float64Array;
+  b: Float64Array;
+  cc: number;
+  /** Per-split scratch. */
+  Hm: Float64Array;
+  bm: Float64Array;
+  L: Float64Array;
+  x: Float64Array;
+}
+
+/**
+ * The parts of `fitStepModel`'s normal equations that do not depend on the split m: every entry without the step
+ * unknown κ (index 6). Per 3-vector row component i the Jacobian is J = [e_i, dt·e_i, [k ≥ m]·s0·v̄_k,i, s0·v̄_k,i]
+ * (c0 (3), c1 (3), κ, κ0); its zero entries add nothing, so the sums below equal the dense accumulation.
+ */
+function stepModelSums(rows: AlignmentRows, r0: number, n: number, C: Float64Array, t0: number, s0: number): StepSums {
+  const H = new Float64Array(64), b = new Float64Array(8);
   let cc = 0;
   for (let k = 0; k < n; k++) {
     const r = r0 + k, dt = rows.t[r]! - t0;
     for (let i = 0; i < 3; i++) {
-      J.fill(0);
-      J[i] = 1;
-      J[3 + i] = dt;
-      J[6] = withStep && k >= m ? s0 * rows.vOdom[3 * r + i]! : 0;
-      J[7] = s0 * rows.vOdom[3 * r + i]!;
-      const y = C[3 * k + i]!;
+      const j7 = s0 * rows.vOdom[3 * r + i]!, y = C[3 * k + i]!;
       cc += y * y;
-      for (let a = 0; a < 8; a++) {
-        if (J[a] === 0) continue;
-        b[a] = b[a]! + J[a]! * y;
-        for (let c = 0; c < 8; c++) H[a * 8 + c] = H[a * 8 + c]! + J[a]! * J[c]!;
+      // rows i, 3 + i and 7 of J·Jᵀ (columns other than 6), in the order of the dense loop
+      H[i * 9] = H[i * 9]! + 1;
+      H[i * 8 + 3 + i] = H[i * 8 + 3 + i]! + dt;
+      H[i * 8 + 7] = H[i * 8 + 7]! + j7;
+      b[i] = b[i]! + y;
+      if (dt !== 0) {
+        const o = (3 + i) * 8;
+        H[o + i] = H[o + i]! + dt * 1;
+        H[o + 3 + i] = H[o + 3 + i]! + dt * dt;
+        H[o + 7] = H[o + 7]! + dt * j7;
+        b[3 + i] = b[3 + i]! + dt * y;
+      }
+      if (j7 !== 0) {
+        H[56 + i] = H[56 + i]! + j7 * 1;
+        H[59 + i] = H[59 + i]! + j7 * dt;
+        H[63] = H[63]! + j7 * j7;
+        b[7] = b[7]! + j7 * y;
       }
     }
   }
-  const sol = solveSpd(H, b, 8);
-  if (sol === null) return null;
+  return { H, b, cc, Hm: new Float64Array(64), bm: new Float64Array(8), L: new Float64Array(64), x: new Float64Array(8) };
+}
+
+/**
+ * Least squares of C_k = c0 + c1·(t_k − t0) + (κ0 + κ·[k ≥ m])·s0·v̄_k over the 3-vector rows; returns [SSE, κ/(1+κ0)].
+ * The sums without κ come from `stepModelSums`; only those with κ (rows k ≥ m) are added here.
+ */
+function fitStepModel(
+  common: StepSums, rows: AlignmentRows, r0: number, n: number, C: Float64Array, m: number, t0: number, s0: number,
+): [number, number] | null {
+  const H = common.Hm, b = common.bm;
+  H.set(common.H);
+  b.set(common.b);
+  for (let k = m; k < n; k++) {
+    const r = r0 + k, dt = rows.t[r]! - t0;
+    for (let i = 0; i < 3; i++) {
+      const j6 = s0 * rows.vOdom[3 * r + i]!, y = C[3 * k + i]!;
+      // column 6 of the rows with a non-zero entry (i, 3 + i, 7), then row 6
+      H[i * 8 + 6] = H[i * 8 + 6]! + 1 * j6;
+      if (dt !== 0) H[(3 + i) * 8 + 6] = H[(3 + i) * 8 + 6]! + dt * j6;
+      if (j6 === 0) continue;
+      H[62] = H[62]! + j6 * j6;
+      H[48 + i] = H[48 + i]! + j6 * 1;
+      H[51 + i] = H[51 + i]! + j6 * dt;
+      H[54] = H[54]! + j6 * j6;
+      H[55] = H[55]! + j6 * j6;
+      b[6] = b[6]! + j6 * y;
+    }
+  }
+  if (!solveSpdInto(common.x, common.L, H, b, 8)) return null;
+  const x = common.x;
   let fitted = 0;
-  for (let a = 0; a < 8; a++) fitted += sol.x[a]! * b[a]!;
+  for (let a = 0; a < 8; a++) fitted += x[a]! * b[a]!;
   // κ relative to the fitted pre-step level (1 + κ0): s0/s1 = (1 + κ0 + κ)/(1 + κ0).
-  return [cc - fitted, sol.x[6]! / (1 + sol.x[7]!)];
+  return [common.cc - fitted, x[6]! / (1 + x[7]!)];
 }
