@@ -8,7 +8,8 @@
  * is integrated exactly over each odometry interval shifted by τ (running trapezoidal integral, evaluated between
  * samples), so both series describe the same time spans and no resampling bias depends on the sub-sample phase;
  * the normalised correlation is searched over ±maxLag on a 10 ms lattice (its even points, then the neighbours of the
- * best, as the peak is hundreds of ms wide), then at 2.5 ms around the best lag, and
+ * best, as the peak is hundreds of ms wide), then on a 2.5 ms lattice within ±7.5 ms of it (climbing from the best
+ * lag towards the higher neighbour while the correlation rises), and
  * refined by parabolas through three points at 2.5, 0.5 and 0.1 ms spacing (sub-sample interpolation, common
  * practice). Uncertainty: linearised delay estimation, σ² = σ_res² / Σ ȯ², counted over independent odometry
  * samples (the Cramér–Rao form for a time delay of a known waveform; S. M. Kay, "Fundamentals of Statistical Signal
@@ -196,7 +197,9 @@ function gyroAtLag(d: WindowData, tau: number): void {
  * so a lag costs O(intervals), not O(samples).
  */
 function sampleBefore(st: Float64Array, ni: number, t0w: number, inv: number, T: number): number {
-  let c = Math.min(ni - 2, Math.max(0, Math.floor((T - t0w) * inv)));
+  let c = ((T - t0w) * inv) | 0;
+  if (c < 0) c = 0;
+  else if (c > ni - 2) c = ni - 2;
   while (c > 0 && st[c]! > T) c--;
   while (c + 2 < ni && st[c + 1]! <= T) c++;
   return c;
@@ -258,15 +261,18 @@ function offsetInWindow(
     const c = corr(lattice(k));
     if (c > cBest) [cBest, kBest] = [c, k];
   }
-  // Then all intervals at 2.5 ms within ±7.5 ms of the lattice maximum.
+  // Then all intervals on a 2.5-ms lattice within ±7.5 ms of the lattice maximum.
   d.step = 1;
   const tau0 = lattice(kBest);
-  const fine = new Float64Array(7);
-  fine[3] = corr(tau0);
+  const fine = new Float64Array(7).fill(Number.NaN);
+  const at = (j: number): number => (Number.isNaN(fine[j]!) ? (fine[j] = corr(tau0 + (j - 3) * 0.0025)) : fine[j]!);
+  // Climb from the centre towards the higher neighbour while the correlation rises (the peak is wide: unimodal here).
+  at(3);
   let jBest = 3;
-  for (let j = 0; j < 7; j++) {
-    if (j !== 3) fine[j] = corr(tau0 + (j - 3) * 0.0025);
-    if (fine[j]! > fine[jBest]!) jBest = j;
+  const dir = at(2) > at(3) ? -1 : at(4) > at(3) ? 1 : 0;
+  if (dir !== 0) {
+    jBest += dir;
+    while (jBest + dir >= 0 && jBest + dir <= 6 && at(jBest + dir) > fine[jBest]!) jBest += dir;
   }
   const best = { c: fine[jBest]!, tau: tau0 + (jBest - 3) * 0.0025 };
   if (best.c < (options.minPeakCorrelation ?? 0.6)) return { reason: 'unobservable: no distinct correlation peak', peak: best.c };
