@@ -107,11 +107,14 @@ interface Scratch {
   wy: Float64Array;
   wz: Float64Array;
   t: Float64Array;
-  ia: Float64Array;
-  ib: Float64Array;
   /** Gyro |∫ω| / Δt per odometry interval at the current lag; odometry |Δθ| / Δt. */
   g: Float64Array;
   o: Float64Array;
+  /** Integral at each odometry stamp of the window at the current lag, and the stamp (IMU clock). */
+  ex: Float64Array;
+  ey: Float64Array;
+  ez: Float64Array;
+  et: Float64Array;
 }
 
 function createScratch(imu: ImuColumns, rate: OdomRate, span: number, maxLag: number): Scratch {
@@ -119,7 +122,8 @@ function createScratch(imu: ImuColumns, rate: OdomRate, span: number, maxLag: nu
   const ni = Math.ceil((span + 2 * maxLag + 1) * fs * 1.1) + 8;
   const no = Math.ceil((span / rate.period) * 1.2) + 8;
   const f = () => new Float64Array(ni);
-  return { px: f(), py: f(), pz: f(), wx: f(), wy: f(), wz: f(), t: f(), ia: new Float64Array(3), ib: new Float64Array(3), g: new Float64Array(no), o: new Float64Array(no) };
+  const e = () => new Float64Array(no + 1);
+  return { px: f(), py: f(), pz: f(), wx: f(), wy: f(), wz: f(), t: f(), g: new Float64Array(no), o: new Float64Array(no), ex: e(), ey: e(), ez: e(), et: e() };
 }
 
 function cursorBefore(tx: Float64Array, n: number, t: number): number {
@@ -142,8 +146,6 @@ interface WindowData {
   k0: number;
   m: number;
   rate: OdomRate;
-  /** Use every step-th odometry interval (coarse search). */
-  step: number;
 }
 
 /**
@@ -152,43 +154,63 @@ interface WindowData {
  * so no resampling of either signal is involved. Fills s.g; O(m) per lag. With every interval in use (step 1)
  * consecutive intervals share their end points, so the running integral is evaluated once per odometry stamp.
  */
-function gyroAtLag(d: WindowData, tau: number): void {
-  const { s, rate, m, k0, step } = d;
-  const rt = rate.t, st = s.t, g = s.g, px = s.px, py = s.py, pz = s.pz, wx = s.wx, wy = s.wy, wz = s.wz;
-  const ni = d.ni, t0w = st[0]!, inv = (ni - 1) / (st[ni - 1]! - t0w);
-  // ∫ of the linearly interpolated rate from the window start to T: P_c + ω_c·u + ½(ω_c+1 − ω_c)·u²/h, with c the
-  // last sample at or before T (clamped to the window).
-  let ax = 0, ay = 0, az = 0, ta = 0;
-  if (step === 1) {
-    ta = rt[k0]! - tau;
-    const c = sampleBefore(st, ni, t0w, inv, ta);
-    const h = st[c + 1]! - st[c]!, u = ta - st[c]!, f = (u * u) / (2 * h);
-    ax = px[c]! + wx[c]! * u + (wx[c + 1]! - wx[c]!) * f;
-    ay = py[c]! + wy[c]! * u + (wy[c + 1]! - wy[c]!) * f;
-    az = pz[c]! + wz[c]! * u + (wz[c + 1]! - wz[c]!) * f;
+function gyroAtLag(d: WindowData, tau: number, step = 1): void {
+  const { s, rate, m, k0, ni } = d;
+  // The arrays go in as arguments: the hot loops then depend on no object layout, so their compiled code is not
+  // thrown away when V8 generalises a field type elsewhere.
+  if (step === 1) gyroAtLagAll(s.t, s.px, s.py, s.pz, s.wx, s.wy, s.wz, s.g, rate.t, k0, m, ni, tau, s.ex, s.ey, s.ez, s.et);
+  else gyroAtLagStep(s.t, s.px, s.py, s.pz, s.wx, s.wy, s.wz, s.g, rate.t, k0, m, ni, tau, step);
+}
+
+// ∫ of the linearly interpolated rate from the window start to T: P_c + ω_c·u + (ω_c+1 − ω_c)·u²/(2h), with c the
+// last sample at or before T (clamped to the window). Written out per axis in the two loops below.
+
+/**
+ * gyroAtLag over every interval: the end of interval j is the start of interval j + 1, so the integral is evaluated
+ * once per odometry stamp into (ex, ey, ez) at times et, then differenced (two loops without loop-carried values).
+ */
+function gyroAtLagAll(
+  st: Float64Array, px: Float64Array, py: Float64Array, pz: Float64Array, wx: Float64Array, wy: Float64Array, wz: Float64Array,
+  g: Float64Array, rt: Float64Array, k0: number, m: number, ni: number, tau: number,
+  ex: Float64Array, ey: Float64Array, ez: Float64Array, et: Float64Array,
+): void {
+  const t0w = st[0]!, inv = (ni - 1) / (st[ni - 1]! - t0w);
+  for (let j = 0; j <= m; j++) {
+    const T = rt[k0 + j]! - tau;
+    // sampleBefore, written out
+    let c = ((T - t0w) * inv) | 0;
+    if (c < 0) c = 0;
+    else if (c > ni - 2) c = ni - 2;
+    while (c > 0 && st[c]! > T) c--;
+    while (c + 2 < ni && st[c + 1]! <= T) c++;
+    const h = st[c + 1]! - st[c]!, u = T - st[c]!, f = (u * u) / (2 * h);
+    ex[j] = px[c]! + wx[c]! * u + (wx[c + 1]! - wx[c]!) * f;
+    ey[j] = py[c]! + wy[c]! * u + (wy[c + 1]! - wy[c]!) * f;
+    ez[j] = pz[c]! + wz[c]! * u + (wz[c + 1]! - wz[c]!) * f;
+    et[j] = T;
   }
+  for (let j = 0; j < m; j++) {
+    const x = ex[j + 1]! - ex[j]!, y = ey[j + 1]! - ey[j]!, z = ez[j + 1]! - ez[j]!;
+    g[j] = Math.sqrt(x * x + y * y + z * z) / (et[j + 1]! - et[j]!);
+  }
+}
+
+/** gyroAtLag over every step-th interval, both ends evaluated. */
+function gyroAtLagStep(
+  st: Float64Array, px: Float64Array, py: Float64Array, pz: Float64Array, wx: Float64Array, wy: Float64Array, wz: Float64Array,
+  g: Float64Array, rt: Float64Array, k0: number, m: number, ni: number, tau: number, step: number,
+): void {
+  const t0w = st[0]!, inv = (ni - 1) / (st[ni - 1]! - t0w);
   for (let j = 0; j < m; j += step) {
-    const k = k0 + j;
-    if (step !== 1) {
-      ta = rt[k]! - tau;
-      const c = sampleBefore(st, ni, t0w, inv, ta);
-      const h = st[c + 1]! - st[c]!, u = ta - st[c]!, f = (u * u) / (2 * h);
-      ax = px[c]! + wx[c]! * u + (wx[c + 1]! - wx[c]!) * f;
-      ay = py[c]! + wy[c]! * u + (wy[c + 1]! - wy[c]!) * f;
-      az = pz[c]! + wz[c]! * u + (wz[c + 1]! - wz[c]!) * f;
-    }
-    const tb = rt[k + 1]! - tau;
-    const c = sampleBefore(st, ni, t0w, inv, tb);
-    const h = st[c + 1]! - st[c]!, u = tb - st[c]!, f = (u * u) / (2 * h);
-    const bx = px[c]! + wx[c]! * u + (wx[c + 1]! - wx[c]!) * f;
-    const by = py[c]! + wy[c]! * u + (wy[c + 1]! - wy[c]!) * f;
-    const bz = pz[c]! + wz[c]! * u + (wz[c + 1]! - wz[c]!) * f;
-    const x = bx - ax, y = by - ay, z = bz - az;
+    const ta = rt[k0 + j]! - tau, tb = rt[k0 + j + 1]! - tau;
+    const ca = sampleBefore(st, ni, t0w, inv, ta);
+    const ha = st[ca + 1]! - st[ca]!, ua = ta - st[ca]!, fa = (ua * ua) / (2 * ha);
+    const cb = sampleBefore(st, ni, t0w, inv, tb);
+    const hb = st[cb + 1]! - st[cb]!, ub = tb - st[cb]!, fb = (ub * ub) / (2 * hb);
+    const x = px[cb]! + wx[cb]! * ub + (wx[cb + 1]! - wx[cb]!) * fb - (px[ca]! + wx[ca]! * ua + (wx[ca + 1]! - wx[ca]!) * fa);
+    const y = py[cb]! + wy[cb]! * ub + (wy[cb + 1]! - wy[cb]!) * fb - (py[ca]! + wy[ca]! * ua + (wy[ca + 1]! - wy[ca]!) * fa);
+    const z = pz[cb]! + wz[cb]! * ub + (wz[cb + 1]! - wz[cb]!) * fb - (pz[ca]! + wz[ca]! * ua + (wz[ca + 1]! - wz[ca]!) * fa);
     g[j] = Math.sqrt(x * x + y * y + z * z) / (tb - ta);
-    ax = bx;
-    ay = by;
-    az = bz;
-    ta = tb;
   }
 }
 
@@ -205,17 +227,19 @@ function sampleBefore(st: Float64Array, ni: number, t0w: number, inv: number, T:
   return c;
 }
 
-function offsetInWindow(
-  imu: ImuColumns, rate: OdomRate, a: number, b: number, maxLag: number, s: Scratch, bias: ArrayLike<number>, options: TimeOffsetOptions,
-): WindowOffset {
-  // IMU samples covering [a − maxLag − 0.1, b + maxLag + 0.1]; running integral by the trapezoid rule.
-  const i0 = cursorBefore(imu.t, imu.n, a - maxLag - 0.1);
+/**
+ * IMU samples covering [lo, hi] into the scratch, bias removed, with their running integral by the trapezoid rule;
+ * returns the sample count. (Kept apart from the lag search so that each part is compiled on its own.)
+ */
+function loadWindow(imu: ImuColumns, lo: number, hi: number, s: Scratch, bias: ArrayLike<number>): number {
+  const t = imu.t, gx = imu.gx, gy = imu.gy, gz = imu.gz, n = imu.n, cap = s.t.length;
+  const bx = bias[0]!, by = bias[1]!, bz = bias[2]!;
   let ni = 0;
-  for (let i = i0; i < imu.n && ni < s.t.length && imu.t[i]! <= b + maxLag + 0.1; i++, ni++) {
-    s.t[ni] = imu.t[i]!;
-    s.wx[ni] = imu.gx[i]! - bias[0]!;
-    s.wy[ni] = imu.gy[i]! - bias[1]!;
-    s.wz[ni] = imu.gz[i]! - bias[2]!;
+  for (let i = cursorBefore(t, n, lo); i < n && ni < cap && t[i]! <= hi; i++, ni++) {
+    s.t[ni] = t[i]!;
+    s.wx[ni] = gx[i]! - bx;
+    s.wy[ni] = gy[i]! - by;
+    s.wz[ni] = gz[i]! - bz;
     if (ni === 0) {
       s.px[0] = s.py[0] = s.pz[0] = 0;
     } else {
@@ -225,44 +249,56 @@ function offsetInWindow(
       s.pz[ni] = s.pz[ni - 1]! + 0.5 * (s.wz[ni]! + s.wz[ni - 1]!) * h;
     }
   }
+  return ni;
+}
+
+/** Odometry rate |Δθ|/Δt of intervals k0..k0+m−1 into o; returns Σo and Σo². */
+function loadOdometryRate(rate: OdomRate, k0: number, m: number, o: Float64Array): { so: number; soo: number } {
+  let so = 0, soo = 0;
+  for (let j = 0; j < m; j++) {
+    const k = k0 + j;
+    o[j] = rate.angle[k]! / (rate.t[k + 1]! - rate.t[k]!);
+    so += o[j]!;
+    soo += o[j]! ** 2;
+  }
+  return { so, soo };
+}
+
+function offsetInWindow(
+  imu: ImuColumns, rate: OdomRate, a: number, b: number, maxLag: number, s: Scratch, bias: ArrayLike<number>, options: TimeOffsetOptions,
+): WindowOffset {
+  const ni = loadWindow(imu, a - maxLag - 0.1, b + maxLag + 0.1, s, bias);
   // Odometry intervals whose IMU-clock span at zero lag lies inside [a, b].
   let k0 = cursorBefore(rate.t, rate.n + 1, a);
   if (rate.t[k0]! < a) k0++;
   let m = 0;
   while (k0 + m < rate.n && rate.t[k0 + m + 1]! <= b && m < s.o.length) m++;
   if (ni < 4 || m < 20) return { reason: 'insufficient: too few samples in the window', peak: 0 };
-  let so = 0, soo = 0;
-  for (let j = 0; j < m; j++) {
-    const k = k0 + j;
-    s.o[j] = rate.angle[k]! / (rate.t[k + 1]! - rate.t[k]!);
-    so += s.o[j]!;
-    soo += s.o[j]! ** 2;
-  }
+  const { so, soo } = loadOdometryRate(rate, k0, m, s.o);
   const oStd = Math.sqrt(Math.max(0, soo / m - (so / m) ** 2));
   if (oStd < (options.minRateStdRadS ?? 0.03)) return { reason: 'unobservable: too little rotation to correlate', peak: 0 };
-  const d: WindowData = { s, ni, k0, m, rate, step: 1 };
-  const corr = (tau: number): number => {
-    gyroAtLag(d, tau);
-    return pearson(s.g, s.o, m, d.step);
+  const d: WindowData = { s, ni, k0, m, rate };
+  // Correlation at lag tau over every step-th odometry interval.
+  const corr = (tau: number, step = 1): number => {
+    gyroAtLag(d, tau, step);
+    return pearson(s.g, s.o, m, step);
   };
   // Coarse lattice (10 ms over ±maxLag) on every 4th odometry interval: its even points first, then the two
   // neighbours of the best of them; the peak is hundreds of ms wide, so this finds the lattice maximum at about half
   // the cost of every point.
-  d.step = 4;
   const last = Math.floor((2 * maxLag + 1e-12) / 0.01);
   const lattice = (k: number) => -maxLag + k * 0.01;
   let kBest = 0, cBest = -2;
   for (let k = 0; k <= last; k += 2) {
-    const c = corr(lattice(k));
+    const c = corr(lattice(k), 4);
     if (c > cBest) [cBest, kBest] = [c, k];
   }
   for (const k of [kBest - 1, kBest + 1]) {
     if (k < 0 || k > last) continue;
-    const c = corr(lattice(k));
+    const c = corr(lattice(k), 4);
     if (c > cBest) [cBest, kBest] = [c, k];
   }
   // Then all intervals on a 2.5-ms lattice within ±7.5 ms of the lattice maximum.
-  d.step = 1;
   const tau0 = lattice(kBest);
   const fine = new Float64Array(7).fill(Number.NaN);
   const at = (j: number): number => (Number.isNaN(fine[j]!) ? (fine[j] = corr(tau0 + (j - 3) * 0.0025)) : fine[j]!);
