@@ -11,7 +11,7 @@ import { buildAlignmentRows } from './alignment-rows.ts';
 import { estimateNoiseDensities } from './allan.ts';
 import { buildFindings } from './inertial-findings.ts';
 import type { InertialAnalysis } from './inertial-types.ts';
-import { checkImuStream, checkTiming, findStationary } from './integrity.ts';
+import { checkImu, checkTiming } from './integrity.ts';
 import { NO_CLOCK_OFFSET, selectKeyframes, type ClockModel } from './keyframes.ts';
 import { preintegrateBatch } from './preintegration-batch.ts';
 import { DEFAULT_IMU_NOISE } from './preintegration.ts';
@@ -85,9 +85,10 @@ export function analyzeInertial(input: InertialInput, options: InertialOptions =
     gyroNoiseDensity: manifest.imu.gyro_noise_density ?? DEFAULT_IMU_NOISE.gyroNoiseDensity,
     accelNoiseDensity: manifest.imu.accel_noise_density ?? DEFAULT_IMU_NOISE.accelNoiseDensity,
   };
-  const { timing: imuTiming, saturation } = checkImuStream(imu, manifest.imu.rate_hz, manifest.imu.gyro_range_rad_s ?? null, manifest.imu.accel_range_m_s2 ?? null);
+  const { timing: imuTiming, saturation, stationary } = checkImu(
+    imu, odom, manifest.imu.rate_hz, manifest.imu.gyro_range_rad_s ?? null, manifest.imu.accel_range_m_s2 ?? null, noise.gyroNoiseDensity, noise.accelNoiseDensity,
+  );
   const odomTiming = checkTiming(odom.t, odom.n, null, [odom.x, odom.y, odom.z, odom.qw, odom.qx, odom.qy, odom.qz]);
-  const stationary = findStationary(imu, odom, noise.gyroNoiseDensity, noise.accelNoiseDensity);
   lap('integrity');
   const bg0 = meanGyroAtRest(imu, stationary);
   const offset = estimateTimeOffset(imu, odom, { windowS: options.timeOffsetWindowS ?? 60, gyroBiasRadS: bg0 });

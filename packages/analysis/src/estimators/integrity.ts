@@ -76,57 +76,100 @@ const AXES = ['gx', 'gy', 'gz', 'ax', 'ay', 'az'] as const;
  * least 3 consecutive samples (a clipped sensor repeats its limit code; real motion does not). Common practice.
  */
 export function findSaturation(imu: ImuColumns, gyroRangeRadS: number | null, accelRangeMS2: number | null): SaturationRun[] {
-  const out: SaturationRun[] = [];
-  for (const axis of AXES) axisSaturation(imu, axis, axis[0] === 'g' ? gyroRangeRadS : accelRangeMS2, out);
-  return out.sort((a, b) => a.tStart - b.tStart);
+  return createSaturationScan(imu, gyroRangeRadS, accelRangeMS2).finish().runs;
 }
 
 /**
- * checkTiming of the IMU stream and findSaturation in one read of each IMU column (the non-finite values are
- * counted during the saturation scan); the same results as the two calls.
+ * IMU timing (checkTiming), saturation runs (findSaturation) and stationary intervals (findStationary) with each IMU
+ * column read once: the saturation scan and the non-finite count run block by block right after the stationary test
+ * has read the block. The same results as the three calls.
  */
-export function checkImuStream(
-  imu: ImuColumns, nominalRateHz: number | null, gyroRangeRadS: number | null, accelRangeMS2: number | null,
-): { timing: StreamTiming; saturation: SaturationRun[] } {
-  const saturation: SaturationRun[] = [];
-  let nonFinite = 0;
-  for (const axis of AXES) nonFinite += axisSaturation(imu, axis, axis[0] === 'g' ? gyroRangeRadS : accelRangeMS2, saturation);
-  return { timing: timingOf(imu.t, imu.n, nominalRateHz, nonFinite), saturation: saturation.sort((a, b) => a.tStart - b.tStart) };
+export function checkImu(
+  imu: ImuColumns, odom: OdometryColumns | null, nominalRateHz: number | null, gyroRangeRadS: number | null, accelRangeMS2: number | null,
+  gyroDensity: number, accelDensity: number,
+): { timing: StreamTiming; saturation: SaturationRun[]; stationary: TimeInterval[] } {
+  const scan = createSaturationScan(imu, gyroRangeRadS, accelRangeMS2);
+  const stationary = stationaryBlocks(imu, odom, gyroDensity, accelDensity, {}, scan);
+  const { runs, nonFinite } = scan.finish();
+  return { timing: timingOf(imu.t, imu.n, nominalRateHz, nonFinite), saturation: runs, stationary };
 }
 
-/** Saturation runs of one axis (see findSaturation) appended to `out`; returns the axis's count of non-finite values. */
-function axisSaturation(imu: ImuColumns, axis: SaturationRun['axis'], range: number | null, out: SaturationRun[]): number {
-  const col = imu[axis], n = imu.n;
-  let limit: number, minRun: number, ceiling = Number.POSITIVE_INFINITY, nonFinite = 0;
-  if (range !== null) {
-    limit = range * 0.999;
-    ceiling = range * 1.01;
-    minRun = 1;
-  } else {
-    limit = 0;
+interface AxisScan {
+  axis: SaturationRun['axis'];
+  index: number;
+  col: Float64Array;
+  limit: number;
+  ceiling: number;
+  minRun: number;
+  /** Without a declared range the limit is the largest |value|, matched exactly. */
+  exact: boolean;
+  /** False when the axis has no limit to look for (all zero). */
+  active: boolean;
+  /** First sample of the current pinned run, −1 when none. */
+  start: number;
+}
+
+/**
+ * Saturation runs of the six axes over consecutive sample ranges [i0, i1) (see findSaturation), counting the
+ * non-finite values on the way; `finish` scans what is left and returns the runs in findSaturation's order.
+ */
+function createSaturationScan(imu: ImuColumns, gyroRangeRadS: number | null, accelRangeMS2: number | null) {
+  const n = imu.n, t = imu.t, runs: (SaturationRun & { index: number })[] = [];
+  let nonFinite = 0, next = 0;
+  const axes: AxisScan[] = AXES.map((axis, index) => {
+    const col = imu[axis], range = axis[0] === 'g' ? gyroRangeRadS : accelRangeMS2;
+    if (range !== null) return { axis, index, col, limit: range * 0.999, ceiling: range * 1.01, minRun: 1, exact: false, active: true, start: -1 };
+    // No declared range: one pass for the largest |value| (and the non-finite count) first.
+    let limit = 0;
     for (let i = 0; i < n; i++) {
       const v = col[i]!, a = Math.abs(v);
       if (!Number.isFinite(v)) nonFinite++;
       if (a > limit) limit = a;
     }
-    minRun = 3;
-    if (!(limit > 0)) return nonFinite;
-  }
-  const exact = range === null, t = imu.t;
-  let start = -1;
-  for (let i = 0; i < n; i++) {
-    const v = col[i]!, a = Math.abs(v);
-    if (!exact && !Number.isFinite(v)) nonFinite++;
-    if (exact ? a === limit : a >= limit && a <= ceiling) {
-      if (start < 0) start = i;
-    } else if (start >= 0) {
-      if (i - start >= minRun) out.push({ axis, tStart: t[start]!, tEnd: t[i - 1]!, samples: i - start });
-      start = -1;
+    return { axis, index, col, limit, ceiling: Number.POSITIVE_INFINITY, minRun: 3, exact: true, active: limit > 0, start: -1 };
+  });
+  const close = (ax: AxisScan, end: number): void => {
+    if (end - ax.start >= ax.minRun) runs.push({ axis: ax.axis, index: ax.index, tStart: t[ax.start]!, tEnd: t[end - 1]!, samples: end - ax.start });
+    ax.start = -1;
+  };
+  const scanAxis = (ax: AxisScan, i0: number, i1: number): void => {
+    const { col, limit, ceiling, exact } = ax;
+    let start = ax.start, bad = 0;
+    for (let i = i0; i < i1; i++) {
+      const v = col[i]!, a = Math.abs(v);
+      if (!exact && !Number.isFinite(v)) bad++;
+      if (exact ? a === limit : a >= limit && a <= ceiling) {
+        if (start < 0) start = i;
+      } else if (start >= 0) {
+        ax.start = start;
+        close(ax, i);
+        start = -1;
+      }
     }
-  }
-  if (start >= 0 && n - start >= minRun) out.push({ axis, tStart: t[start]!, tEnd: t[n - 1]!, samples: n - start });
-  return nonFinite;
+    ax.start = start;
+    nonFinite += bad;
+  };
+  return {
+    scan(i0: number, i1: number): void {
+      if (i0 !== next) throw new RangeError('saturation scan: ranges must be consecutive');
+      for (const ax of axes) if (ax.active) scanAxis(ax, i0, i1);
+      next = i1;
+    },
+    finish(): { runs: SaturationRun[]; nonFinite: number } {
+      for (const ax of axes) {
+        if (!ax.active) continue;
+        scanAxis(ax, next, n);
+        if (ax.start >= 0) close(ax, n);
+      }
+      next = n;
+      // findSaturation's order: by start time, axes in AXES order on ties.
+      runs.sort((a, b) => a.tStart - b.tStart || a.index - b.index);
+      return { runs: runs.map(({ index: _index, ...r }) => r), nonFinite };
+    },
+  };
 }
+
+type SaturationScan = ReturnType<typeof createSaturationScan>;
 
 export interface StationaryOptions {
   /** Block length for the variance test, s (default 0.25). */
@@ -147,6 +190,14 @@ export interface StationaryOptions {
  */
 export function findStationary(
   imu: ImuColumns, odom: OdometryColumns | null, gyroDensity: number, accelDensity: number, options: StationaryOptions = {},
+): TimeInterval[] {
+  return stationaryBlocks(imu, odom, gyroDensity, accelDensity, options, null);
+}
+
+/** findStationary; each block's sample range also goes to the saturation scan, if any, while it is in cache. */
+function stationaryBlocks(
+  imu: ImuColumns, odom: OdometryColumns | null, gyroDensity: number, accelDensity: number, options: StationaryOptions,
+  scan: SaturationScan | null,
 ): TimeInterval[] {
   const n = imu.n;
   if (n < 10) return [];
@@ -172,6 +223,7 @@ export function findStationary(
       }
       i++;
     }
+    scan?.scan(b0, i);
     const m = i - b0;
     let quiet = m >= 4;
     for (let c = 0; c < 6 && quiet; c++) {
