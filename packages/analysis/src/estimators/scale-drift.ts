@@ -60,7 +60,7 @@ export function estimateScaleDrift(
     }
   }
   const level = medianOf(ys);
-  const steps = findSteps(raw, windowS, rows, gravity, bias, options);
+  const steps = findScaleSteps(raw, windowS, (t0, t1, before, after) => locateStep(rows, gravity, bias, t0, t1, before, after), options);
   const thin = thinPoints(xs, ys, 400);
   // Theil–Sen with Sen's 95 % interval (geometry robust-fit); fewer than 4 points carry no trend.
   const fit = thin.x.length >= 4 ? theilSen(Float64Array.from(thin.x), Float64Array.from(thin.y)) : null;
@@ -191,9 +191,13 @@ function thinPoints(x: number[], y: number[], max: number): { x: number[]; y: nu
  * each side, so the two groups share no data); z = Δ/√(σ²_before + σ²_after) above 8 and |Δ| ≥ minStepPct (default
  * 2.5 %, above the scale wander of a good front end) are kept,
  * strongest first, each located by `locateStep`, and the scan repeated with groups that do not reach across an accepted
- * step.
+ * step. A window whose candidate was used once is not used again, and a location at an accepted step (within its
+ * 1-sigma or half a window) adds nothing: a step located more than a window from the candidate does not block the
+ * candidate's own groups, which would otherwise return the same step on every pass.
  */
-function findSteps(raw: { t: Float64Array; value: Float64Array; sigma: Float64Array }, windowS: number, rows: AlignmentRows, g: Float64Array, ba: Float64Array, options: ScaleDriftOptions): ScaleStep[] {
+export function findScaleSteps(
+  raw: { t: Float64Array; value: Float64Array; sigma: Float64Array }, windowS: number, locate: StepLocator, options: ScaleDriftOptions = {},
+): ScaleStep[] {
   const minPct = options.minStepPct ?? 2.5;
   const n = raw.t.length;
   const steps: ScaleStep[] = [];
@@ -201,8 +205,10 @@ function findSteps(raw: { t: Float64Array; value: Float64Array; sigma: Float64Ar
   // Candidate per window centre (z NaN: none). It depends only on accepted steps within 4 window lengths of the centre,
   // so after each acceptance only those windows are scanned again.
   const z = new Float64Array(n).fill(Number.NaN), zBefore = new Float64Array(n), zAfter = new Float64Array(n);
+  const used = new Uint8Array(n);
   const scan = (w: number): void => {
     z[w] = Number.NaN;
+    if (used[w] === 1) return;
     const tb = raw.t[w]!;
     if (anyStep(stepT, tb - 2 * windowS, tb + 2 * windowS, (t) => Math.abs(t - tb) < windowS)) return;
     let wb = 0, sb = 0, wa = 0, sa = 0;
@@ -227,19 +233,17 @@ function findSteps(raw: { t: Float64Array; value: Float64Array; sigma: Float64Ar
     if (zw > 8 && Math.abs(after / before - 1) * 100 >= minPct) [z[w], zBefore[w], zAfter[w]] = [zw, before, after];
   };
   for (let w = 0; w < n; w++) scan(w);
-  // locateStep of the last acceptance per window: a candidate that survives its own step (located more than a window
-  // away from the centre) comes back unchanged, and so would its location.
-  const located = new Map<number, { before: number; after: number; at: ScaleStep }>();
   // Greedy: accept the strongest candidate, then rescan with groups that may not reach across an accepted step.
   for (let pass = 0; pass < 50; pass++) {
     let best = -1;
     for (let w = 0; w < n; w++) if (!Number.isNaN(z[w]!) && (best < 0 || z[w]! > z[best]!)) best = w;
     if (best < 0) break;
     const tb = raw.t[best]!, before = zBefore[best]!, after = zAfter[best]!;
-    const memo = located.get(best);
-    const at = memo !== undefined && memo.before === before && memo.after === after
-      ? memo.at : locateStep(rows, g, ba, tb - 1.5 * windowS, tb + 1.5 * windowS, before, after);
-    located.set(best, { before, after, at });
+    const at = locate(tb - 1.5 * windowS, tb + 1.5 * windowS, before, after);
+    used[best] = 1;
+    z[best] = Number.NaN;
+    const tol = Math.max(at.sigmaS, windowS / 2);
+    if (anyStep(stepT, at.t - tol, at.t + tol, () => true)) continue;
     // Size from the window groups (acceleration-based scales); time from the velocity-mismatch split.
     steps.push({ ...at, before, after, stepPct: (after / before - 1) * 100 });
     stepT.splice(lowerBound(stepT, at.t), 0, at.t);
@@ -247,6 +251,9 @@ function findSteps(raw: { t: Float64Array; value: Float64Array; sigma: Float64Ar
   }
   return steps.sort((x, y) => x.t - y.t);
 }
+
+/** Locates a step in [t0, t1] given the scales before and after it (the velocity-mismatch split of `locateStep`). */
+export type StepLocator = (t0: number, t1: number, before: number, after: number) => ScaleStep;
 
 /** First index of the ascending `xs` whose value is ≥ x (binary search). */
 function lowerBound(xs: ArrayLike<number>, x: number): number {
