@@ -35,8 +35,11 @@ export function shiftSpec(durationS = 8 * 3600): RunSpec {
   });
 }
 
+/** Raised when the simulator's output for an unchanged spec changes, so cached workloads are regenerated. */
+const GENERATOR_REVISION = 2;
+
 export function specHash(spec: RunSpec): string {
-  return createHash('sha256').update(JSON.stringify(spec)).digest('hex').slice(0, 16);
+  return createHash('sha256').update(JSON.stringify({ spec, generator: GENERATOR_REVISION })).digest('hex').slice(0, 16);
 }
 
 /** Returns the cached Shift archive for the spec, generating it first when missing. */
