@@ -5,14 +5,17 @@
  * What: per window (default 10 s, 50 % overlap) the scale s (metres per odometry unit) with its 1-sigma, gravity
  * tilt against the odometry world −z (deg), residual RMS (m/s) and condition number; run-level scale (median of the
  * observable windows), gravity and accelerometer bias (joint estimate over the whole run with one free scale per
- * window, which separates a horizontal bias from a tilt when the heading changes; alignment-joint.ts).
+ * window, which separates a horizontal bias from a tilt when the heading changes; alignment-joint.ts). The bias is
+ * one per segment of about `biasSegmentS` (default 600 s) with a random walk of density `accelBiasRandomWalk` between
+ * segments: over hours a MEMS accelerometer bias wanders by several 0.01 m/s², which a single run-level bias turns
+ * into scale errors of several percent in the windows far from the run mean.
  * Method: velocity-free linear system over keyframe triplets (alignment-rows.ts; Mur-Artal & Tardós, IEEE RA-L 2017),
  * linear start for (s, g), then Gauss–Newton with |g| fixed to local normal gravity and a 2-DOF tangent update
  * (Qin & Shen, IEEE T-RO 2018). Windows without acceleration excitation (metric odometry acceleration std — odometry
  * units times the window scale — below `minAccelStd`) or with σ_s above `maxScaleSigma` are reported unobservable with the reason, never as a value.
  */
 import type { AlignmentRows } from './alignment-rows.ts';
-import { solveJoint } from './alignment-joint.ts';
+import { solveJoint, type BiasSegments } from './alignment-joint.ts';
 import { linearStart, solveAlignment, type SolveResult } from './alignment-solve.ts';
 import { madSigma, medianOf } from './small-math.ts';
 import { emptySeries, noScalar, scalar, type ScalarResult, type Unsupported, type Vec3Result, type WindowSeries } from './types.ts';
@@ -27,7 +30,17 @@ export interface GravityScaleOptions {
   maxScaleSigma?: number;
   /** Estimate the accelerometer bias over the run (default true). */
   estimateBias?: boolean;
+  /** Length of a bias segment, s (default 600; runs shorter than 1.5 segments have one bias). */
+  biasSegmentS?: number;
+  /** Accelerometer bias random walk, m/s²/√s (default DEFAULT_ACCEL_BIAS_RANDOM_WALK). */
+  accelBiasRandomWalk?: number;
 }
+
+/**
+ * Accelerometer bias random walk when none is given, m/s²/√s: a conservative consumer-MEMS figure (looser than most
+ * data sheets imply, so that the prior does not hold back a real bias change).
+ */
+export const DEFAULT_ACCEL_BIAS_RANDOM_WALK = 1e-3;
 
 export interface GravityScaleResult {
   ok: true;
@@ -42,10 +55,17 @@ export interface GravityScaleResult {
   /** Gravity vector in the odometry world (m/s²) from the run-level joint estimate. */
   gravity: Float64Array;
   gravityTiltDeg: ScalarResult;
+  /** Run-level accelerometer bias: the mean of the segment biases weighted by their row counts. */
   accelBias: Vec3Result;
+  /** Accelerometer bias per alignment row (stride 3, m/s²): the bias of the row's segment; zero when unobservable. */
+  rowBias: Float64Array;
   /** Scale per alignment row (of the containing window; NaN when unobservable), used for drift refinement. */
   rowScale: Float64Array;
-  /** Window scales and sigmas before the observability cut (NaN only where no solution exists). */
+  /**
+   * Window scales and sigmas before the σ cut (NaN where no solution exists or the window has no acceleration
+   * excitation: there the noise of the odometry accelerations biases the least-squares scale towards zero by far more
+   * than its σ, regression dilution, which looks like a scale step of several percent).
+   */
   rawScale: { t: Float64Array; value: Float64Array; sigma: Float64Array };
 }
 
@@ -99,9 +119,10 @@ export function estimateGravityScale(rows: AlignmentRows, worldGravityAligned: b
   const zero = new Float64Array(3);
   const down = Float64Array.of(0, 0, -1);
   const inflate = Math.sqrt(rows.overlap);
-  const perWindow = (ba: Float64Array, scaleOnly: boolean): (SolveResult | null)[] => {
+  const perWindow = (baOf: (w: number) => Float64Array, scaleOnly: boolean): (SolveResult | null)[] => {
     const out: (SolveResult | null)[] = [];
     for (let w = 0; w < nw; w++) {
+      const ba = baOf(w);
       const r0 = win.r0[w]!, r1 = win.r1[w]!;
       if (r1 - r0 < 6) {
         out.push(null);
@@ -132,13 +153,15 @@ export function estimateGravityScale(rows: AlignmentRows, worldGravityAligned: b
     return '';
   };
   // Pass 1: scales with zero bias, to hold scale fixed while the run-level bias is estimated (only the scales are read).
-  const first = perWindow(zero, true);
+  const first = perWindow(() => zero, true);
   const s0 = Float64Array.from(first, (r) => (r !== null ? r.s : Number.NaN));
   // Pass 1 runs without the bias, whose error inflates σ_s: decide on excitation alone here.
   const anyObservable = first.some((r, w) => r !== null && metricStd(w, r) >= minStd);
-  const joint = runLevel(rows, win, s0, G, options.estimateBias ?? true, anyObservable);
-  const ba = joint?.bias ?? zero;
-  const second = perWindow(ba, false);
+  const seg = biasSegments(win.t, options.biasSegmentS ?? 600, options.accelBiasRandomWalk ?? DEFAULT_ACCEL_BIAS_RANDOM_WALK);
+  const joint = runLevel(rows, win, s0, G, options.estimateBias ?? true, anyObservable, seg);
+  const segBias = joint?.bias ?? null;
+  const baOf = (w: number): Float64Array => (segBias === null ? zero : segBias.subarray(3 * seg.ofWindow[w]!, 3 * seg.ofWindow[w]! + 3));
+  const second = perWindow(baOf, false);
   const scale = emptySeries('', nw), tilt = emptySeries('deg', nw), residual = emptySeries('m/s', nw);
   const condition = new Float64Array(nw).fill(Number.NaN);
   for (let w = 0; w < nw; w++) {
@@ -168,9 +191,10 @@ export function estimateGravityScale(rows: AlignmentRows, worldGravityAligned: b
       : joint === null ? noScalar('deg', 'unobservable: no window with acceleration excitation') : scalar(tiltDeg(joint.g), joint.tiltSigmaDeg, 'deg'),
     accelBias: joint?.biasResult ?? { value: null, sigma: null, unit: 'm/s²', reason: 'unobservable: no window with acceleration excitation' },
     rowScale: scalePerRow(rows, win, scale.value),
+    rowBias: biasPerRow(rows, win, baOf),
     rawScale: {
       t: win.t,
-      value: Float64Array.from(second, (r) => (r !== null ? r.s : Number.NaN)),
+      value: Float64Array.from(second, (r, w) => (r !== null && metricStd(w, r) >= minStd ? r.s : Number.NaN)),
       sigma: Float64Array.from(second, (r) => (r !== null ? r.sSigma : Number.NaN)),
     },
   };
@@ -197,6 +221,30 @@ function scalePerRow(rows: AlignmentRows, win: { t: Float64Array }, s: ArrayLike
   return out;
 }
 
+/** Each row takes the bias of the segment of the window whose centre is nearest. */
+function biasPerRow(rows: AlignmentRows, win: { t: Float64Array }, baOf: (w: number) => Float64Array): Float64Array {
+  const out = new Float64Array(3 * rows.n);
+  let w = 0;
+  for (let r = 0; r < rows.n; r++) {
+    while (w + 1 < win.t.length && Math.abs(win.t[w + 1]! - rows.t[r]!) <= Math.abs(win.t[w]! - rows.t[r]!)) w++;
+    out.set(baOf(w), 3 * r);
+  }
+  return out;
+}
+
+/**
+ * Equal segments of whole windows, about `lengthS` long (one when the run is shorter than 1.5 segments). The mean
+ * biases of two adjacent segments of length T under a random walk of density q differ with variance q²·2T/3, the
+ * prior information between them.
+ */
+function biasSegments(centres: Float64Array, lengthS: number, q: number): BiasSegments {
+  const nw = centres.length, t0 = centres[0]!, span = Math.max(0, centres[nw - 1]! - t0);
+  const count = Math.max(1, Math.round(span / lengthS));
+  const T = span / count;
+  const ofWindow = Int32Array.from(centres, (t) => Math.min(count - 1, Math.floor((t - t0) / T)));
+  return { ofWindow, count, stepInfo: new Float64Array(Math.max(0, count - 1)).fill(1 / (q * q * ((2 * T) / 3))) };
+}
+
 interface Joint {
   g: Float64Array;
   tiltSigmaDeg: number;
@@ -204,8 +252,8 @@ interface Joint {
   biasResult: Vec3Result;
 }
 
-/** Run-level gravity and bias, jointly with one free scale per window (alignment-joint.ts). */
-function runLevel(rows: AlignmentRows, win: { t: Float64Array }, s0: Float64Array, G: number, withBias: boolean, anyObservable: boolean): Joint | null {
+/** Run-level gravity and segment biases, jointly with one free scale per window (alignment-joint.ts). */
+function runLevel(rows: AlignmentRows, win: { t: Float64Array }, s0: Float64Array, G: number, withBias: boolean, anyObservable: boolean, seg: BiasSegments): Joint | null {
   if (!anyObservable) return null;
   const rowWindow = new Int32Array(rows.n);
   let w = 0;
@@ -213,13 +261,13 @@ function runLevel(rows: AlignmentRows, win: { t: Float64Array }, s0: Float64Arra
     while (w + 1 < win.t.length && Math.abs(win.t[w + 1]! - rows.t[r]!) <= Math.abs(win.t[w]! - rows.t[r]!)) w++;
     rowWindow[r] = w;
   }
-  const withB = withBias ? solveJoint(rows, rowWindow, s0, G, true) : null;
+  const withB = withBias ? solveJoint(rows, rowWindow, s0, G, true, seg) : null;
   const biasOk = withB !== null && Math.max(...withB.baSigma) < 0.05;
-  const r = biasOk ? withB : solveJoint(rows, rowWindow, s0, G, false);
+  const r = biasOk ? withB : solveJoint(rows, rowWindow, s0, G, false, seg);
   if (r === null) return null;
   const tiltSigmaDeg = (Math.sqrt(0.5 * (r.gCov[0]! + r.gCov[3]!)) / G) * DEG;
   const biasResult: Vec3Result = biasOk
-    ? { value: [r.ba[0]!, r.ba[1]!, r.ba[2]!], sigma: [r.baSigma[0]!, r.baSigma[1]!, r.baSigma[2]!], unit: 'm/s²' }
+    ? { value: [r.baMean[0]!, r.baMean[1]!, r.baMean[2]!], sigma: [r.baMeanSigma[0]!, r.baMeanSigma[1]!, r.baMeanSigma[2]!], unit: 'm/s²' }
     : { value: null, sigma: null, unit: 'm/s²', reason: withBias ? 'unobservable: too little heading change to separate bias from tilt' : 'not estimated' };
   return { g: r.g, tiltSigmaDeg, bias: biasOk ? r.ba : null, biasResult };
 }

@@ -183,9 +183,8 @@ function runModelEstimators(
   };
   if (!gs.ok) return { ...skip(gs.reason), extrinsicError: ext.estimate, extrinsicObservedDeg: ext.observedDeg, gyroBias, rotationSeries: rot.residualWindows, extrinsic };
   const runScale = gs.runScale.value ?? 1;
-  const ba = gs.accelBias.value ? Float64Array.from(gs.accelBias.value) : new Float64Array(3);
-  const drift = estimateScaleDrift(gs.scale, gs.distance.map((d) => d * runScale), windowS, overlap, gs.rawScale, rows, gs.gravity, ba);
-  const poseJumps = findPoseJumps(rows, gs.rowScale, runScale, gs.gravity, ba);
+  const drift = estimateScaleDrift(gs.scale, gs.distance.map((d) => d * runScale), windowS, overlap, gs.rawScale, rows, gs.gravity, gs.rowBias);
+  const poseJumps = findPoseJumps(rows, gs.rowScale, runScale, gs.gravity, gs.rowBias);
   lap('scaleDrift');
   return {
     extrinsicError: ext.estimate, extrinsicObservedDeg: ext.observedDeg, gyroBias, alignmentBias: gs.accelBias,

@@ -24,11 +24,11 @@ export interface PoseJump {
   jumpM: number;
 }
 
-/** Right-hand side z_r = y_r + M_r·ba − β_r·g of row r into out (3-vector). */
+/** Right-hand side z_r = y_r + M_r·ba_r − β_r·g of row r into out (3-vector); ba holds the bias per row (stride 3). */
 function rowTarget(rows: AlignmentRows, r: number, g: Float64Array, ba: Float64Array, out: Float64Array): void {
   for (let i = 0; i < 3; i++) {
     let z = rows.y[3 * r + i]! - rows.beta[r]! * g[i]!;
-    for (let j = 0; j < 3; j++) z += rows.m[9 * r + 3 * i + j]! * ba[j]!;
+    for (let j = 0; j < 3; j++) z += rows.m[9 * r + 3 * i + j]! * ba[3 * r + j]!;
     out[i] = z;
   }
 }

@@ -44,7 +44,7 @@ export interface ScaleDriftOptions {
 /**
  * `scale`: window scale series (NaN = unobservable); `distanceM`: metric distance at each window centre; `raw`: the
  * window scales and sigmas before the observability cut (for step detection); rows, gravity and bias: the alignment
- * rows with the run-level gravity and accelerometer bias (trend and step location).
+ * rows with the run-level gravity and the accelerometer bias per row (stride 3; trend and step location).
  */
 export function estimateScaleDrift(
   scale: WindowSeries, distanceM: Float64Array, windowS: number, windowOverlap: number,
@@ -117,7 +117,7 @@ function driftFromRows(rows: AlignmentRows, g: Float64Array, ba: Float64Array, s
       const d = (rows.distance[r]! * mPerUnit) / 100; // hundreds of metres
       for (let i = 0; i < 3; i++) {
         let zz = rows.y[3 * r + i]! - rows.beta[r]! * g[i]!;
-        for (let j = 0; j < 3; j++) zz += rows.m[9 * r + 3 * i + j]! * ba[j]!;
+        for (let j = 0; j < 3; j++) zz += rows.m[9 * r + 3 * i + j]! * ba[3 * r + j]!;
         z[i] = zz;
       }
       const l0 = rows.lam[3 * r]!, l1 = rows.lam[3 * r + 1]!, l2 = rows.lam[3 * r + 2]!, k = level[r]!;
@@ -186,7 +186,7 @@ function thinPoints(x: number[], y: number[], max: number): { x: number[]; y: nu
 }
 
 /**
- * Step candidates from the window scales (all windows with a solution, observable or not, weighted by 1/σ²): at every
+ * Step candidates from the window scales (all windows that `raw` holds, observable or not, weighted by 1/σ²): at every
  * window centre, the weighted mean of the windows ending before it against those starting after it (up to 3 windows
  * each side, so the two groups share no data); z = Δ/√(σ²_before + σ²_after) above 8 and |Δ| ≥ minStepPct (default
  * 2.5 %, above the scale wander of a good front end) are kept,
@@ -295,7 +295,7 @@ function locateStep(rows: AlignmentRows, g: Float64Array, ba: Float64Array, t0: 
     const r = r0 + k;
     for (let i = 0; i < 3; i++) {
       let e = before * rows.lam[3 * r + i]! + rows.beta[r]! * g[i]! - rows.y[3 * r + i]!;
-      for (let j = 0; j < 3; j++) e -= rows.m[9 * r + 3 * i + j]! * ba[j]!;
+      for (let j = 0; j < 3; j++) e -= rows.m[9 * r + 3 * i + j]! * ba[3 * r + j]!;
       acc[i] = acc[i]! + e / rows.overlap;
       C[3 * k + i] = acc[i]!;
     }
