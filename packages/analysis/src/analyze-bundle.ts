@@ -4,7 +4,8 @@ import pkg from '../package.json' with { type: 'json' };
 import { analyzeInertial, type InertialInput, type InertialOptions } from './estimators/inertial.ts';
 import { checkTiming } from './estimators/integrity.ts';
 import type { InertialFinding } from './estimators/types.ts';
-import { analyzeGeometryInThread, warmGeometryThread } from './parallel/geometry-worker.ts';
+import { analyzeGeometryInThread, imuNormsInThread, warmGeometryThread } from './parallel/geometry-worker.ts';
+import type { ImuNorms } from './report/series.ts';
 import { analyzeGeometry, runContext, type GeometryResult, type RunContext } from './geometry-part.ts';
 import { distanceAt } from './loops/path.ts';
 import { gravityCorrection, levelUpInOdomWorld } from './loops/gravity-level.ts';
@@ -82,7 +83,7 @@ function setUp(data: RunData, policy: Policy): RunSetup {
 }
 
 /** Repair, triage and the report, from the three analyses. */
-function finish(r: RunSetup, inertial: InertialAnalysis, { gnss, loops }: GeometryResult): RunAnalysis {
+function finish(r: RunSetup, inertial: InertialAnalysis, { gnss, loops }: GeometryResult, imuNorms?: ImuNorms): RunAnalysis {
   const { data, th, dist, clock } = r;
   const { manifest, imu, odometry } = data;
   const t0 = clock.t0;
@@ -99,6 +100,7 @@ function finish(r: RunSetup, inertial: InertialAnalysis, { gnss, loops }: Geomet
   const distanceM = dist[odometry.n - 1]!;
   const stats = data.stats ?? { imu: null, odometry: null, gnss: null, loops: null };
   const report = buildReport({
+    ...(imuNorms ? { imuNorms } : {}),
     analysisVersion: ANALYSIS_VERSION,
     policyHash: policyHash(r.resolved),
     manifest, odometry, imu, gnssColumns: data.gnss, clock, distanceM,
@@ -130,15 +132,16 @@ export function analyzeRunDetailed(data: RunData, policy: Policy = DEFAULT_POLIC
 }
 
 /**
- * The same analysis on two threads: a helper thread compares with GNSS and solves the pose graph while this thread
- * runs the inertial estimators; the report is byte-identical to `analyzeRunDetailed`'s. Columns on SharedArrayBuffer
+ * The same analysis on two threads: a helper thread compares with GNSS, solves the pose graph and computes the IMU
+ * magnitude series of the report while this thread runs the inertial estimators; the report is byte-identical to `analyzeRunDetailed`'s. Columns on SharedArrayBuffer
  * (readBundle's `sharedMemory`) reach the helper without a copy.
  */
 export async function analyzeRunParallel(data: RunData, policy: Policy = DEFAULT_POLICY, geometry?: Promise<GeometryResult>): Promise<RunAnalysis> {
   const r = setUp(data, policy);
   const pending = geometry ?? analyzeGeometryInThread(data, policy);
+  const norms = imuNormsInThread(data.imu, r.clock.t0);
   const inertial = analyzeInertial(r.inertialInput, r.inertialOptions);
-  return finish(r, inertial, await pending);
+  return finish(r, inertial, await pending, await norms);
 }
 
 /** How `analyzeBundle` and its siblings run: `parallel` uses a second thread (see analyzeBundleDetailed). */

@@ -1,12 +1,17 @@
 import { Worker } from 'node:worker_threads';
+import type { ImuColumns } from '@plumbline/bundle';
 import type { Policy } from '@plumbline/contracts';
 import type { GeometryInput, GeometryResult } from '../geometry-part.ts';
+import type { ImuNorms } from '../report/series.ts';
+import type { HelperRequest } from './geometry-thread.ts';
 
 const BOOT = new URL('./thread-boot.mjs', import.meta.url);
 const ENTRY = new URL('./geometry-thread.ts', import.meta.url).href;
 
-type Pending = { resolve(r: GeometryResult): void; reject(e: Error): void };
-type Reply = { id: number; result?: GeometryResult; error?: { name: string; message: string } };
+type Pending = { resolve(r: unknown): void; reject(e: Error): void };
+type Reply = { id: number; result?: unknown; error?: { name: string; message: string } };
+/** A request without its id (distributes over the union). */
+type Request = HelperRequest extends infer R ? (R extends HelperRequest ? Omit<R, 'id'> : never) : never;
 
 /**
  * One helper thread per calling thread, started on first use and kept; it holds the process open only while a request
@@ -44,19 +49,31 @@ export function warmGeometryThread(): void {
 }
 
 /**
- * `analyzeGeometry` in the helper thread. Columns on SharedArrayBuffer are shared, others are copied. Equal input gives
- * the same result as the call in this thread. The promise never goes unobserved: callers that fail before awaiting it
+ * Sends one request to the helper thread. The promise never goes unobserved: callers that fail before awaiting it
  * leave no unhandled rejection.
  */
-export function analyzeGeometryInThread(input: GeometryInput, policy: Policy): Promise<GeometryResult> {
+function ask<T>(request: Request): Promise<T> {
   const s = slot ?? spawn();
   const id = nextId++;
-  const answer = new Promise<GeometryResult>((resolve, reject) => {
+  const answer = new Promise<T>((resolve, reject) => {
     // held open while a request is out, so a process awaiting only this answer does not exit
     if (s.pending.size === 0) s.worker.ref();
-    s.pending.set(id, { resolve, reject });
-    s.worker.postMessage({ id, input, policy });
+    s.pending.set(id, { resolve: resolve as (r: unknown) => void, reject });
+    s.worker.postMessage({ ...request, id });
   });
   answer.catch(() => undefined);
   return answer;
+}
+
+/**
+ * `analyzeGeometry` in the helper thread. Columns on SharedArrayBuffer are shared, others are copied. Equal input gives
+ * the same result as the call in this thread.
+ */
+export function analyzeGeometryInThread(input: GeometryInput, policy: Policy): Promise<GeometryResult> {
+  return ask<GeometryResult>({ kind: 'geometry', input, policy });
+}
+
+/** `imuNormSeries` in the helper thread (after any geometry request before it). */
+export function imuNormsInThread(imu: ImuColumns, t0: number): Promise<ImuNorms> {
+  return ask<ImuNorms>({ kind: 'imu-norms', imu, t0 });
 }

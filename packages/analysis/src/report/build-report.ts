@@ -7,9 +7,11 @@ import { MAX_KEYFRAMES } from '../loops/keyframes.ts';
 import type { RepairedTrajectory } from '../loops/repair.ts';
 import type { RunClock } from '../triage/flags.ts';
 import { roundReport } from './round.ts';
-import { fixSeries, imuNormSeries, pathSeries, scalarSeries, windowSeries } from './series.ts';
+import { fixSeries, imuNormSeries, pathSeries, scalarSeries, windowSeries, type ImuNorms } from './series.ts';
 
 export interface ReportParts {
+  /** The IMU magnitude series when already computed (`imuNormSeries(imu, clock.t0)`, e.g. on a helper thread). */
+  imuNorms?: ImuNorms;
   analysisVersion: string;
   policyHash: string;
   manifest: RunManifest;
@@ -77,7 +79,7 @@ function corrections(p: ReportParts, loops: Loop[]): Corrections {
 function series(p: ReportParts): ReportSeries {
   const t0 = p.clock.t0, s = p.inertial.series;
   const g = p.gnss && p.gnss.ok ? p.gnss : null;
-  const norms = imuNormSeries(p.imu, t0);
+  const norms = p.imuNorms ?? imuNormSeries(p.imu, t0);
   return {
     trajectory: pathSeries('odometry-world', p.odometry, t0),
     repaired_trajectory: p.repair ? pathSeries('repaired', p.repair.columns, t0) : null,

@@ -56,7 +56,13 @@ export function windowSeries(w: WindowSeries, t0: number, unit = w.unit, scale =
 }
 
 /** |gyro| (rad/s) and |accel| (m/s²) per IMU sample, downsampled. One O(n) pass. */
-export function imuNormSeries(imu: ImuColumns, t0: number): { gyro: Series; accel: Series } {
+/** Downsampled magnitudes of the angular rate and the specific force. */
+export interface ImuNorms {
+  gyro: Series;
+  accel: Series;
+}
+
+export function imuNormSeries(imu: ImuColumns, t0: number): ImuNorms {
   const n = imu.n, g = new Float64Array(n), a = new Float64Array(n);
   for (let i = 0; i < n; i++) {
     // √(x² + y² + z²) rather than Math.hypot: IMU magnitudes cannot overflow, and hypot cost 1.2 s on 5.76 M samples.
