@@ -136,9 +136,9 @@ export function analyzeRunDetailed(data: RunData, policy: Policy = DEFAULT_POLIC
  * magnitude series of the report while this thread runs the inertial estimators; the report is byte-identical to `analyzeRunDetailed`'s. Columns on SharedArrayBuffer
  * (readBundle's `sharedMemory`) reach the helper without a copy.
  */
-export async function analyzeRunParallel(data: RunData, policy: Policy = DEFAULT_POLICY, geometry?: Promise<GeometryResult>): Promise<RunAnalysis> {
+export async function analyzeRunParallel(data: RunData, policy: Policy = DEFAULT_POLICY): Promise<RunAnalysis> {
   const r = setUp(data, policy);
-  const pending = geometry ?? analyzeGeometryInThread(data, policy);
+  const pending = analyzeGeometryInThread(data, policy);
   const norms = imuNormsInThread(data.imu, r.clock.t0);
   const inertial = analyzeInertial(r.inertialInput, r.inertialOptions);
   return finish(r, inertial, await pending, await norms);
@@ -150,25 +150,20 @@ export interface AnalyzeOptions {
 }
 
 /**
- * Reads a bundle and analyses it. With `parallel`, the columns are read onto shared memory and the geometry part
- * (GNSS, loops, pose graph) starts on a helper thread as soon as everything but the IMU is read, so it overlaps the
- * IMU parse and then the inertial estimators on this thread. The report is the same either way.
+ * Reads a bundle and analyses it. With `parallel`, the columns are read onto shared memory and, once read, the
+ * geometry part (GNSS, loops, pose graph) and the IMU series run on a helper thread beside the inertial estimators.
+ * Starting the geometry earlier, during the IMU parse, measured slower: the parse and its gunzip already keep both
+ * cores busy. The report is the same either way.
  */
 export async function analyzeBundleDetailed(path: string, policy: Policy = DEFAULT_POLICY, options: AnalyzeOptions = {}): Promise<RunAnalysis & { odometry: OdometryColumns }> {
   if (!options.parallel) {
     const b = await readBundle(path);
     return { ...analyzeRunDetailed(b, policy), odometry: b.odometry };
   }
+  // the helper starts while the bundle is read; it gets its work after the read, when the second core is free
   warmGeometryThread();
-  let geometry: Promise<GeometryResult> | undefined;
-  const b = await readBundle(path, {
-    sharedMemory: true,
-    onBeforeImu: (parts) => {
-      // too short for an analysis: leave the error to setUp on this thread
-      if (parts.odometry.n >= 2) geometry = analyzeGeometryInThread(parts, policy);
-    },
-  });
-  return { ...(await analyzeRunParallel(b, policy, geometry)), odometry: b.odometry };
+  const b = await readBundle(path, { sharedMemory: true });
+  return { ...(await analyzeRunParallel(b, policy)), odometry: b.odometry };
 }
 
 /** Pure analysis of one run's columnar data under a policy (default: DEFAULT_POLICY). */

@@ -19,8 +19,6 @@ export interface ReadBundleOptions {
    * them to a worker thread.
    */
   sharedMemory?: boolean;
-  /** Called once the manifest, odometry, GNSS and loop candidates are read, before the IMU file (the largest). */
-  onBeforeImu?: (parts: Pick<Bundle, 'manifest' | 'odometry' | 'gnss' | 'loops'>) => void;
 }
 
 export interface Bundle {
@@ -60,7 +58,6 @@ export async function readBundle(path: string, options: ReadBundleOptions = {}):
       ...base, file, rowsHint: await rowsHint(at(file), bytesPerRow),
     });
     const shared = { sharedMemory: options.sharedMemory ?? false };
-    // the IMU, by far the largest file, comes last, so a caller can start on the rest while it is parsed
     const odometry = await readOdometryCsv(at(manifest.odometry.file), { ...(await csv(manifest.odometry.file, 96)), ...shared });
     let gnss = null;
     if (manifest.gnss) {
@@ -68,7 +65,6 @@ export async function readBundle(path: string, options: ReadBundleOptions = {}):
       gnss = /\.nmea(\.gz)?$/i.test(file) ? await readGnssNmea(at(file), { ...base, file }) : await readGnssCsv(at(file), await csv(file, 64));
     }
     const loops = manifest.loops ? await readLoopsCsv(at(manifest.loops.file), await csv(manifest.loops.file, 96)) : null;
-    options.onBeforeImu?.({ manifest, odometry: odometry.columns, gnss: gnss?.columns ?? null, loops: loops?.columns ?? null });
     const imu = await readImuCsv(at(manifest.imu.file), { ...(await csv(manifest.imu.file, 72)), ...shared });
     return {
       kind: opened.kind,
