@@ -1,6 +1,6 @@
 /**
  * Child process of the analysis benchmarks: `read` parses the bundle alone (readBundle), `analyze` runs the whole
- * analysis as the worker service does (analyzeBundle, parallel: inertial estimators on a second thread),
+ * analysis as the worker service does (analyzeBundle, parallel: GNSS, loops and pose graph on a second thread),
  * `analyze-serial` the same on one thread. Runs in its own fresh process so maxRSS belongs to one side only. Prints one line
  * `BENCH_RESULT {json}`; the parent starts it with --trace-gc and takes the V8 heap peak from those lines.
  * Usage: node --trace-gc --import tsx bench/lib/analysis-child.ts <read|analyze|analyze-serial> <bundle path>

@@ -1,7 +1,7 @@
 /**
  * Shift analysis against its baseline, each side in a fresh child process: `readBundle` alone (read + gunzip +
  * parse into columns) and `analyzeBundle` (the same read plus the whole analysis) as the worker service runs it, with
- * the inertial estimators on a second thread; the one-thread analysis is measured too, for its CPU and wall time. Memory: the child's maxRSS from
+ * GNSS, loops and pose graph on a second thread; the one-thread analysis is measured too, for its CPU and wall time. Memory: the child's maxRSS from
  * process.resourceUsage() and the V8 heap peak from --trace-gc, against the byte size of the parsed columns.
  */
 import { heapPeakFromTraceGc, markedJson, runChild } from './children.ts';

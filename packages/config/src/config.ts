@@ -26,7 +26,7 @@ export const CONFIG_VARIABLES = {
   PLUMBLINE_WORKER_CONCURRENCY: positiveInt.max(64).default(1).describe('analysis jobs run at the same time per worker process'),
   PLUMBLINE_ANALYSIS_TWO_THREADS: boolFlag
     .default(true)
-    .describe('each analysis runs its inertial estimators on a second thread: a run is analysed sooner (1/0; 0 when the concurrency already keeps every core busy)'),
+    .describe('each analysis uses a second thread for GNSS, loops and pose graph beside the inertial estimators: a run is analysed sooner (1/0; 0 when the concurrency already keeps every core busy)'),
   PLUMBLINE_LOG_LEVEL: z.enum(LOG_LEVELS).default('info').describe(`log level: ${LOG_LEVELS.join(', ')}`),
   PLUMBLINE_MAX_UPLOAD_BYTES: positiveInt.default(2 * 1024 ** 3).describe('largest accepted bundle in bytes (default 2 GiB)'),
   PLUMBLINE_UPLOAD_RATE_PER_MIN: positiveInt.default(30).describe('uploads (runs, upload sessions) allowed per token per minute'),

@@ -31,7 +31,7 @@ export interface ThreadedAnalyze {
 /**
  * `threads` worker threads running the analysis, requests handed out round-robin. A thread that dies fails its
  * pending requests (the queue retries them) and is replaced on the next request. With `twoThreads`, each analysis
- * runs its inertial estimators on one more thread of its own (see analyzeRunParallel).
+ * uses one more thread of its own for GNSS, loops and pose graph (see analyzeRunParallel).
  */
 export function createThreadedAnalyze(threads = 1, options: { twoThreads?: boolean } = {}): ThreadedAnalyze {
   const twoThreads = options.twoThreads ?? false;
