@@ -132,16 +132,18 @@ export function analyzeRunDetailed(data: RunData, policy: Policy = DEFAULT_POLIC
 }
 
 /**
- * The same analysis on two threads: a helper thread compares with GNSS, solves the pose graph and computes the IMU
- * magnitude series of the report while this thread runs the inertial estimators; the report is byte-identical to `analyzeRunDetailed`'s. Columns on SharedArrayBuffer
- * (readBundle's `sharedMemory`) reach the helper without a copy.
+ * The same analysis on two threads: a helper thread compares with GNSS and solves the pose graph (and, for IMU
+ * columns on SharedArrayBuffer, computes the report's IMU magnitude series) while this thread runs the inertial
+ * estimators; the report is byte-identical to `analyzeRunDetailed`'s. Columns on SharedArrayBuffer (readBundle's
+ * `sharedMemory`) reach the helper without a copy; the IMU of other input is never sent.
  */
 export async function analyzeRunParallel(data: RunData, policy: Policy = DEFAULT_POLICY): Promise<RunAnalysis> {
   const r = setUp(data, policy);
-  const pending = analyzeGeometryInThread(data, policy);
-  const norms = imuNormsInThread(data.imu, r.clock.t0);
+  const { manifest, odometry, gnss, loops } = data;
+  const pending = analyzeGeometryInThread({ manifest, odometry, gnss, loops }, policy);
+  const norms = data.imu.t.buffer instanceof SharedArrayBuffer ? imuNormsInThread(data.imu, r.clock.t0) : undefined;
   const inertial = analyzeInertial(r.inertialInput, r.inertialOptions);
-  return finish(r, inertial, await pending, await norms);
+  return finish(r, inertial, await pending, norms && (await norms));
 }
 
 /** How `analyzeBundle` and its siblings run: `parallel` uses a second thread (see analyzeBundleDetailed). */

@@ -26,7 +26,7 @@ function data(): RunData {
 }
 
 describe('analysis on two threads', () => {
-  it('gives the byte-identical report of the one-thread analysis (columns copied to the helper thread)', async () => {
+  it('gives the byte-identical report of the one-thread analysis (in-memory columns: the helper gets copies of the odometry, GNSS and loops only)', async () => {
     const one = analyzeRunDetailed(data());
     const two = await analyzeRunParallel(data());
     expect(one.report.flags.some((f) => f.kind === 'loop-mismatch')).toBe(true);
