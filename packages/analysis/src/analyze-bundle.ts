@@ -4,7 +4,7 @@ import pkg from '../package.json' with { type: 'json' };
 import { analyzeInertial, type InertialInput, type InertialOptions } from './estimators/inertial.ts';
 import { checkTiming } from './estimators/integrity.ts';
 import type { InertialFinding } from './estimators/types.ts';
-import { analyzeGeometryInThread, imuNormsInThread, warmGeometryThread } from './parallel/geometry-worker.ts';
+import { analyzeGeometryInThread, imuNormsInThread, warmGeometryThread } from './parallel/helper-worker.ts';
 import type { ImuNorms } from './report/series.ts';
 import { analyzeGeometry, runContext, type GeometryResult, type RunContext } from './geometry-part.ts';
 import { distanceAt } from './loops/path.ts';

@@ -7,7 +7,7 @@ import { DEFAULT_POLICY, RunManifest } from '@plumbline/contracts';
 import { makeRunSpec, simulateRun, writeRun } from '@plumbline/simulator';
 import { analyzeBundle, analyzeRunDetailed, analyzeRunParallel, type RunData } from '../analyze-bundle.ts';
 import { analyzeGeometry } from '../geometry-part.ts';
-import { analyzeGeometryInThread } from './geometry-worker.ts';
+import { analyzeGeometryInThread } from './helper-worker.ts';
 
 const spec = makeRunSpec({ seed: 21, durationS: 90, faults: [{ kind: 'loop-mismatch', magnitude: 6, startS: 20 }, { kind: 'time-offset', magnitude: 0.03, startS: 0 }] });
 let dir: string;

@@ -16,7 +16,7 @@ export type HelperRequest =
   | { id: number; kind: 'imu-norms'; imu: ImuColumns; t0: number };
 
 const port = parentPort;
-if (!port) throw new Error('geometry-thread.ts must run in a worker thread');
+if (!port) throw new Error('helper-thread.ts must run in a worker thread');
 port.on('message', (req: HelperRequest) => {
   try {
     const result = req.kind === 'geometry' ? analyzeGeometry(req.input, req.policy) : imuNormSeries(req.imu, req.t0);

@@ -3,10 +3,10 @@ import type { ImuColumns } from '@plumbline/bundle';
 import type { Policy } from '@plumbline/contracts';
 import type { GeometryInput, GeometryResult } from '../geometry-part.ts';
 import type { ImuNorms } from '../report/series.ts';
-import type { HelperRequest } from './geometry-thread.ts';
+import type { HelperRequest } from './helper-thread.ts';
 
 const BOOT = new URL('./thread-boot.mjs', import.meta.url);
-const ENTRY = new URL('./geometry-thread.ts', import.meta.url).href;
+const ENTRY = new URL('./helper-thread.ts', import.meta.url).href;
 
 type Pending = { resolve(r: unknown): void; reject(e: Error): void };
 type Reply = { id: number; result?: unknown; error?: { name: string; message: string } };
