@@ -17,3 +17,4 @@ export { policyHash, policyFileText } from './triage/policy-hash.ts';
 export { buildReport } from './report/build-report.ts';
 export { reportJsonSchema } from '@plumbline/contracts';
 export * from './fleet/index.ts';
+export { createThreadClient, threadErrorOf, type ThreadClient, type ThreadError } from './parallel/thread-client.ts';

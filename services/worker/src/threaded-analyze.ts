@@ -1,11 +1,8 @@
-import { Worker } from 'node:worker_threads';
-import type { Report } from '@plumbline/contracts';
+import { createThreadClient, type ThreadError } from '@plumbline/analysis';
 import type { AnalysisOutput } from './analysis-output.ts';
 import type { Analyze } from './processors/analyse-run.ts';
-import type { ThreadError } from './analysis-thread.ts';
 
-const BOOT = new URL('./thread-boot.mjs', import.meta.url);
-const ENTRY = new URL('./analysis-thread.ts', import.meta.url).href;
+const ENTRY = new URL('./analysis-thread.ts', import.meta.url);
 
 /** An error rebuilt from the thread, with the same name, code and location (so BundleError stays recognisable). */
 export class ThreadedAnalysisError extends Error {
@@ -35,45 +32,17 @@ export interface ThreadedAnalyze {
  */
 export function createThreadedAnalyze(threads = 1, options: { twoThreads?: boolean } = {}): ThreadedAnalyze {
   const twoThreads = options.twoThreads ?? false;
-  type Pending = { resolve(r: AnalysisOutput): void; reject(e: Error): void };
-  const slots: Array<{ worker: Worker; pending: Map<number, Pending> } | null> = Array.from({ length: Math.max(1, threads) }, () => null);
-  let nextId = 1;
+  const clients = Array.from({ length: Math.max(1, threads) }, () =>
+    createThreadClient(ENTRY, 'analysis thread', (e) => new ThreadedAnalysisError(e)),
+  );
   let turn = 0;
-
-  function spawn(i: number) {
-    const pending = new Map<number, Pending>();
-    const worker = new Worker(BOOT, { workerData: { entry: ENTRY } });
-    worker.unref();
-    worker.on('message', (m: { id: number; report?: Report; repairedCsvGz?: Uint8Array | null; error?: ThreadError }) => {
-      const p = pending.get(m.id);
-      pending.delete(m.id);
-      if (m.error) p?.reject(new ThreadedAnalysisError(m.error));
-      else if (m.report) p?.resolve({ report: m.report, repairedCsvGz: m.repairedCsvGz ?? null });
-    });
-    const fail = (err: Error) => {
-      for (const p of pending.values()) p.reject(err);
-      pending.clear();
-      slots[i] = null;
-    };
-    worker.on('error', fail);
-    worker.on('exit', (code) => fail(new Error(`analysis thread exited with code ${code}`)));
-    const slot = { worker, pending };
-    slots[i] = slot;
-    return slot;
-  }
-
   return {
     analyze(path, policy) {
-      const i = turn++ % slots.length;
-      const slot = slots[i] ?? spawn(i);
-      const id = nextId++;
-      return new Promise<AnalysisOutput>((resolve, reject) => {
-        slot.pending.set(id, { resolve, reject });
-        slot.worker.postMessage({ id, path, policy, twoThreads });
-      });
+      const client = clients[turn++ % clients.length]!;
+      return client.ask<AnalysisOutput>({ path, policy, twoThreads });
     },
     async close() {
-      await Promise.all(slots.map((s) => s?.worker.terminate()));
+      await Promise.all(clients.map((c) => c.close()));
     },
   };
 }

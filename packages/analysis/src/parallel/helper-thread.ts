@@ -10,6 +10,7 @@ import type { ImuColumns } from '@plumbline/bundle';
 import type { Policy } from '@plumbline/contracts';
 import { analyzeGeometry, type GeometryInput } from '../geometry-part.ts';
 import { imuNormSeries } from '../report/series.ts';
+import { threadErrorOf } from './thread-client.ts';
 
 export type HelperRequest =
   | { id: number; kind: 'geometry'; input: GeometryInput; policy: Policy }
@@ -22,7 +23,6 @@ port.on('message', (req: HelperRequest) => {
     const result = req.kind === 'geometry' ? analyzeGeometry(req.input, req.policy) : imuNormSeries(req.imu, req.t0);
     port.postMessage({ id: req.id, result });
   } catch (err) {
-    const e = err as Error;
-    port.postMessage({ id: req.id, error: { name: e?.name ?? 'Error', message: e?.message ?? String(err) } });
+    port.postMessage({ id: req.id, error: threadErrorOf(err) });
   }
 });

@@ -1,6 +1,0 @@
-// Worker-thread bootstrap: threads do not inherit the tsx loader, so register it here, then load the TS entry.
-import { workerData } from 'node:worker_threads';
-import { register } from 'tsx/esm/api';
-
-register();
-await import(workerData.entry);
