@@ -193,6 +193,8 @@ export function integrateRange(
         jc = (th - sn) / (t2 * th);
       }
       const jb = sc;
+      // The same update for each of the three rows of ΔR (and its gyro-bias Jacobian), written out so the whole state
+      // stays in locals: this loop runs once per IMU sample.
       const a00 = r1 * z - r2 * y, a01 = r2 * x - r0 * z, a02 = r0 * y - r1 * x;
       const b00 = a01 * z - a02 * y, b01 = a02 * x - a00 * z, b02 = a00 * y - a01 * x;
       g0 = g0 - (r0 + jb * a00 + jc * b00) * h;
